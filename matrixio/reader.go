@@ -3,7 +3,9 @@ package matrixio
 import (
 	"bytes"
 	"context"
+	"crypto/sha256"
 	"encoding/binary"
+	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -567,3 +569,30 @@ func DecodeFloats(row []byte, dst []float32) {
 		dst[i] = math.Float32frombits(binary.LittleEndian.Uint32(row[4*i:]))
 	}
 }
+
+// Fingerprint returns a SHA-256 over the store's metadata, sample table
+// checksum and chunk index (which holds every chunk's CRC32C) and footer
+// (which holds the marker table's CRC32C): it identifies the content without
+// reading the chunks, so reports and checkpoints can name their input.
+func (s *Store) Fingerprint() string {
+	h := sha256.New()
+	mj, _ := json.Marshal(s.meta.Samples)
+	h.Write(mj)
+	h.Write([]byte(s.meta.Codec))
+	for _, id := range s.samples {
+		h.Write([]byte(id))
+		h.Write([]byte{0})
+	}
+	var b [indexRecSize]byte
+	for i := range s.index {
+		s.index[i].marshal(b[:])
+		h.Write(b[:])
+	}
+	var ft [footerSize]byte
+	s.f.ReadAt(ft[:], s.size-footerSize)
+	h.Write(ft[:])
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// Size returns the store's file size in bytes.
+func (s *Store) Size() int64 { return s.size }

@@ -1,5 +1,356 @@
 package main
 
-import "context"
+import (
+	"context"
+	"flag"
+	"fmt"
+	"math"
+	"runtime"
+	"runtime/debug"
+	"strings"
+	"syscall"
+	"time"
 
-func runPCA(ctx context.Context, e *env, args []string) error { return notYet("clinal PCA") }
+	"github.com/clinal/clinal/matrixio"
+	"github.com/clinal/clinal/qc"
+	"github.com/clinal/clinal/randsvd"
+	"github.com/schollz/progressbar/v3"
+)
+
+// pcaOptions are the flags of clinal pca.
+type pcaOptions struct {
+	out          string
+	k            int
+	oversample   int
+	seed         uint64
+	tol          float64
+	maxPasses    int
+	threads      int
+	memory       byteSize
+	scaling      string
+	twoIDs       bool
+	idHeaders    string
+	pcPrefix     string
+	labels       string
+	qc           qc.Options
+	qcPrefix     string
+	noLoadings   bool
+	twAlpha      float64
+	autoK        bool
+	maxAutoK     int
+	outlierSD    float64
+	outlierIters int
+}
+
+func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
+	fs.StringVar(&o.out, "o", "", "output prefix (PREFIX.covariates.tsv, ...)")
+	fs.IntVar(&o.k, "k", 10, "number of PCs")
+	fs.IntVar(&o.oversample, "oversample", 0, "extra block vectors (default max(10, k/2))")
+	fs.Uint64Var(&o.seed, "seed", 1, "random seed (same seed and inputs give the same numbers)")
+	fs.Float64Var(&o.tol, "tol", 1e-6, "stop when ||K u - lambda u|| <= tol * lambda for every PC")
+	fs.IntVar(&o.maxPasses, "max-passes", 30, "most passes over the store")
+	fs.IntVar(&o.threads, "threads", runtime.NumCPU(), "compute threads (results do not depend on it)")
+	fs.Var(&o.memory, "memory", "memory promise, e.g. 4GiB (0: no limit)")
+	fs.StringVar(&o.scaling, "scaling", "patterson", "marker standardization: patterson, center or zscore")
+	fs.BoolVar(&o.twoIDs, "two-id-columns", false, "write the sample ID in two leading columns")
+	fs.StringVar(&o.idHeaders, "id-headers", "", "comma-separated header names of the ID column(s)")
+	fs.StringVar(&o.pcPrefix, "pc-prefix", "PC", "name prefix of the PC columns")
+	fs.StringVar(&o.labels, "labels", "", "TSV sample_id -> group, for the report's plots")
+	fs.StringVar(&o.qcPrefix, "qc", "", "reuse the kept lists of a finished clinal qc run (PREFIX)")
+	fs.BoolVar(&o.noLoadings, "no-loadings", false, "skip the loadings file (saves half a pass)")
+	// TODO(qc): addFilterFlags(fs, &o.qc) once cmd_qc.go provides it.
+}
+
+// phaseTimes records wall and CPU seconds per phase.
+type phaseTimes struct {
+	order []string
+	wall  map[string]float64
+	cpu   map[string]float64
+	t0    time.Time
+	c0    float64
+	cur   string
+}
+
+func newPhases() *phaseTimes {
+	return &phaseTimes{wall: map[string]float64{}, cpu: map[string]float64{}}
+}
+
+func (p *phaseTimes) start(name string) {
+	p.stop()
+	p.cur, p.t0, p.c0 = name, time.Now(), cpuSeconds()
+	p.order = append(p.order, name)
+}
+
+func (p *phaseTimes) stop() {
+	if p.cur == "" {
+		return
+	}
+	p.wall[p.cur] += time.Since(p.t0).Seconds()
+	p.cpu[p.cur] += cpuSeconds() - p.c0
+	p.cur = ""
+}
+
+func cpuSeconds() float64 {
+	var ru syscall.Rusage
+	if syscall.Getrusage(syscall.RUSAGE_SELF, &ru) != nil {
+		return math.NaN()
+	}
+	return float64(ru.Utime.Sec+ru.Stime.Sec) + float64(ru.Utime.Usec+ru.Stime.Usec)/1e6
+}
+
+func peakRSS() int64 {
+	var ru syscall.Rusage
+	if syscall.Getrusage(syscall.RUSAGE_SELF, &ru) != nil {
+		return 0
+	}
+	return ru.Maxrss * 1024 // Linux reports KiB
+}
+
+func runPCA(ctx context.Context, e *env, args []string) error {
+	var o pcaOptions
+	fs := flag.NewFlagSet("pca", flag.ContinueOnError)
+	pcaFlags(fs, &o)
+	pos, err := parseArgs(fs, args)
+	if err != nil {
+		return err
+	}
+	if len(pos) != 1 {
+		return usage("pca: want one STORE argument, got %d (clinal pca STORE -k K -o PREFIX)", len(pos))
+	}
+	if o.out == "" {
+		return usage("pca: -o PREFIX is required")
+	}
+	if o.k < 1 {
+		return usage("pca: -k %d: want at least 1", o.k)
+	}
+	if o.threads < 1 {
+		return usage("pca: --threads %d: want at least 1", o.threads)
+	}
+	_, err = doPCA(ctx, e, pos[0], &o)
+	return err
+}
+
+// pcaOutcome is what doPCA returns to callers such as demo.
+type pcaOutcome struct {
+	files []string
+}
+
+func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOutcome, error) {
+	t0 := time.Now()
+	ph := newPhases()
+	if o.memory > 0 {
+		// The promise covers the Go heap too: make the collector keep to it.
+		debug.SetMemoryLimit(int64(o.memory) * 9 / 10)
+	}
+	ph.start("open")
+	st, err := matrixio.Open(storePath)
+	if err != nil {
+		return nil, err
+	}
+	defer st.Close()
+	ph.start("qc")
+	var sel *qc.Selection
+	if o.qcPrefix != "" {
+		err = notYet("pca --qc")
+	} else {
+		o.qc.Threads = o.threads
+		sel, err = qc.Run(ctx, st, o.qc)
+	}
+	if err != nil {
+		return nil, err
+	}
+	ph.start("solve")
+	var bar *progressbar.ProgressBar
+	popt := randsvd.PCAOptions{K: o.k, Oversample: o.oversample, Tol: o.tol, MaxPasses: o.maxPasses,
+		Seed: o.seed, Threads: o.threads, Memory: int64(o.memory), Scaling: randsvd.Scaling(o.scaling),
+		SampleKept: sel.SampleKept, MarkerKept: sel.MarkerKept, Counts: sel.Counts}
+	switch popt.Scaling {
+	case randsvd.ScalePatterson, randsvd.ScaleCenter, randsvd.ScaleZ:
+	default:
+		return nil, usage("pca: --scaling %q: want patterson, center or zscore", o.scaling)
+	}
+	if e.tty {
+		popt.Progress = func(pass, done, total int) {
+			if bar == nil || done == 1 {
+				if bar != nil {
+					bar.Finish()
+				}
+				bar = progressbar.NewOptions(total, progressbar.OptionSetWriter(e.stderr),
+					progressbar.OptionSetDescription(fmt.Sprintf("pass %d", pass)),
+					progressbar.OptionClearOnFinish(), progressbar.OptionThrottle(100*time.Millisecond))
+			}
+			bar.Set(done)
+		}
+	}
+	res, op, err := randsvd.RunPCA(ctx, st, popt)
+	if bar != nil {
+		bar.Finish()
+	}
+	if err != nil {
+		return nil, err
+	}
+	out := &pcaOutcome{}
+	ph.start("loadings")
+	if !o.noLoadings {
+		if err := writeLoadings(ctx, o.out+".loadings.tsv.gz", st, op, res, sel); err != nil {
+			return nil, err
+		}
+		out.files = append(out.files, o.out+".loadings.tsv.gz")
+	}
+	ph.start("write")
+	ids := make([]string, len(res.Samples))
+	for r, i := range res.Samples {
+		ids[r] = st.Samples()[i]
+	}
+	copt := matrixio.CovariateOptions{TwoIDColumns: o.twoIDs, Prefix: o.pcPrefix}
+	if o.idHeaders != "" {
+		copt.IDHeaders = strings.Split(o.idHeaders, ",")
+	}
+	if err := matrixio.WriteCovariates(o.out+".covariates.tsv", ids, o.k, res.Scores.At, copt); err != nil {
+		return nil, err
+	}
+	rows := spectrumRows(res)
+	if err := matrixio.WriteSpectrum(o.out+".spectrum.tsv", rows); err != nil {
+		return nil, err
+	}
+	ph.stop()
+	rep := buildReport(st, o, res, sel, ph, time.Since(t0))
+	if err := matrixio.WriteJSON(o.out+".report.json", rep); err != nil {
+		return nil, err
+	}
+	out.files = append(out.files, o.out+".covariates.tsv", o.out+".spectrum.tsv", o.out+".report.json")
+	nconv := 0
+	for _, c := range res.Converged {
+		if c {
+			nconv++
+		}
+	}
+	fmt.Fprintf(e.stdout, "pca: %d samples x %d markers, k=%d: %d passes (%s), %d/%d PCs converged to tol %g; PC1 explains %.2f%% of variance; outputs %s.*\n",
+		len(res.Samples), res.Markers, o.k, res.Passes, res.StopReason, nconv, o.k, o.tol, 100*res.Eigenvalues[0]/res.Trace, o.out)
+	return out, nil
+}
+
+func spectrumRows(res *randsvd.PCAResult) []matrixio.SpectrumRow {
+	rows := make([]matrixio.SpectrumRow, len(res.Eigenvalues))
+	cum := 0.0
+	for j, ev := range res.Eigenvalues {
+		cum += ev / res.Trace
+		rows[j] = matrixio.SpectrumRow{Eigenvalue: ev, VarianceFraction: ev / res.Trace, CumulativeFraction: cum,
+			Residual: res.Residuals[j], Converged: res.Converged[j], TWStatistic: math.NaN(), TWP: math.NaN()}
+	}
+	return rows
+}
+
+func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *randsvd.Operator, res *randsvd.PCAResult, sel *qc.Selection) error {
+	lw, err := matrixio.CreateLoadings(path, len(res.Eigenvalues))
+	if err != nil {
+		return err
+	}
+	kept := op.KeptMarkers()
+	center, inv := op.Standardization()
+	err = randsvd.Loadings(ctx, op, res, func(ord int, v []float64) error {
+		j := kept[ord]
+		return lw.Write(st.Markers()[j], center[ord]/2, 1/inv[ord], v)
+	})
+	if err != nil {
+		lw.Abort()
+		return err
+	}
+	return lw.Close()
+}
+
+// report is PREFIX.report.json.
+type report struct {
+	Version       string             `json:"version"`
+	Command       string             `json:"command"`
+	Input         reportInput        `json:"input"`
+	SamplesUsed   int                `json:"samples_used"`
+	MarkersUsed   int                `json:"markers_used"`
+	K             int                `json:"k"`
+	BlockSize     int                `json:"block_size"`
+	Seed          uint64             `json:"seed"`
+	Threads       int                `json:"threads"`
+	Tol           float64            `json:"tol"`
+	MaxPasses     int                `json:"max_passes"`
+	Scaling       string             `json:"scaling"`
+	Passes        int                `json:"passes"`
+	StopReason    string             `json:"stop_reason"`
+	Trace         float64            `json:"trace"`
+	TraceSqEst    float64            `json:"trace_sq_estimate"`
+	MPEdge        float64            `json:"marchenko_pastur_edge"`
+	Eigenvalues   []float64          `json:"eigenvalues"`
+	VarianceFrac  []float64          `json:"variance_fractions"`
+	Residuals     []float64          `json:"residuals"`
+	Converged     []bool             `json:"converged"`
+	ResidualTrace [][]float64        `json:"relative_residuals_per_pass"`
+	QC            reportQC           `json:"qc"`
+	Memory        randsvd.MemoryPlan `json:"memory_plan"`
+	WallSeconds   float64            `json:"wall_seconds"`
+	CPUSeconds    float64            `json:"cpu_seconds"`
+	Phases        []reportPhase      `json:"phases"`
+	PeakRSS       int64              `json:"peak_rss_bytes"`
+	Projection    string             `json:"projection"`
+}
+
+type reportInput struct {
+	Path        string `json:"path"`
+	Bytes       int64  `json:"bytes"`
+	Fingerprint string `json:"fingerprint_sha256"`
+	Samples     int    `json:"samples"`
+	Markers     int    `json:"markers"`
+	Codec       string `json:"codec"`
+}
+
+type reportQC struct {
+	SamplesKept     int                    `json:"samples_kept"`
+	SamplesRemoved  int                    `json:"samples_removed"`
+	MarkersKept     int                    `json:"markers_kept"`
+	MarkersRemoved  int                    `json:"markers_removed"`
+	NoVariance      randsvd.DroppedMarkers `json:"dropped_no_variance"`
+	FromQCRun       string                 `json:"from_qc_run,omitempty"`
+	FilterThreshold qc.Options             `json:"thresholds"`
+}
+
+type reportPhase struct {
+	Name        string  `json:"name"`
+	WallSeconds float64 `json:"wall_seconds"`
+	CPUSeconds  float64 `json:"cpu_seconds"`
+}
+
+func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel *qc.Selection, ph *phaseTimes, wall time.Duration) *report {
+	r := &report{Version: version, Command: "pca",
+		Input: reportInput{Path: st.Path(), Bytes: st.Size(), Fingerprint: st.Fingerprint(),
+			Samples: st.NumSamples(), Markers: st.NumMarkers(), Codec: string(st.Codec())},
+		SamplesUsed: len(res.Samples), MarkersUsed: res.Markers, K: o.k, BlockSize: res.BlockSize,
+		Seed: o.seed, Threads: o.threads, Tol: o.tol, MaxPasses: o.maxPasses, Scaling: o.scaling,
+		Passes: res.Passes, StopReason: res.StopReason, Trace: res.Trace, TraceSqEst: res.TraceSqEst,
+		MPEdge: res.MPEdge, Eigenvalues: res.Eigenvalues, Residuals: res.Residuals, Converged: res.Converged,
+		ResidualTrace: res.History, Memory: res.Plan, WallSeconds: wall.Seconds(), CPUSeconds: cpuSeconds(),
+		PeakRSS:    peakRSS(),
+		Projection: "score_k = sum_j z_j * loading_jk / sqrt(markers_used * eigenvalue_k), z_j = (g_j - 2 freq_j) / scale_j, missing z_j = 0",
+	}
+	for _, ev := range res.Eigenvalues {
+		r.VarianceFrac = append(r.VarianceFrac, ev/res.Trace)
+	}
+	for _, k := range sel.SampleKept {
+		if k {
+			r.QC.SamplesKept++
+		} else {
+			r.QC.SamplesRemoved++
+		}
+	}
+	for _, k := range sel.MarkerKept {
+		if k {
+			r.QC.MarkersKept++
+		} else {
+			r.QC.MarkersRemoved++
+		}
+	}
+	r.QC.NoVariance = res.Dropped
+	r.QC.FromQCRun = o.qcPrefix
+	r.QC.FilterThreshold = o.qc
+	for _, n := range ph.order {
+		r.Phases = append(r.Phases, reportPhase{Name: n, WallSeconds: ph.wall[n], CPUSeconds: ph.cpu[n]})
+	}
+	return r
+}

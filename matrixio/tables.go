@@ -1,0 +1,202 @@
+package matrixio
+
+import (
+	"bufio"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+
+	"github.com/klauspost/compress/gzip"
+)
+
+// FormatFloat renders a value with 17 significant digits at most (enough to
+// round-trip a float64) and NA for NaN, so printed numbers are exactly the
+// computed ones.
+func FormatFloat(v float64) string {
+	if math.IsNaN(v) {
+		return "NA"
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64)
+}
+
+// CovariateOptions shape the covariate table for association software.
+type CovariateOptions struct {
+	// TwoIDColumns writes the sample ID twice (family and individual ID
+	// columns), as some association programs expect.
+	TwoIDColumns bool
+	// IDHeaders are the header names of the ID column(s); default
+	// "sample_id" (or "family_id", "sample_id" with TwoIDColumns).
+	IDHeaders []string
+	// Prefix names the PC columns: Prefix1..PrefixK (default "PC").
+	Prefix string
+	// Flags, when set, adds a last column with this header and one value
+	// per row (e.g. "projected" for outliers placed by projection).
+	FlagHeader string
+	Flags      []string
+}
+
+// WriteCovariates writes the sample scores atomically to path: header
+// `sample_id PC1 ... PCk`, tab separated, one row per sample in the order
+// given. scores(i, j) returns sample i's score on PC j+1.
+func WriteCovariates(path string, ids []string, k int, scores func(i, j int) float64, opt CovariateOptions) error {
+	if opt.Prefix == "" {
+		opt.Prefix = "PC"
+	}
+	hdr := opt.IDHeaders
+	if len(hdr) == 0 {
+		hdr = []string{"sample_id"}
+		if opt.TwoIDColumns {
+			hdr = []string{"family_id", "sample_id"}
+		}
+	}
+	want := 1
+	if opt.TwoIDColumns {
+		want = 2
+	}
+	if len(hdr) != want {
+		return BadInput("covariates: %d ID header names for %d ID columns", len(hdr), want)
+	}
+	if opt.FlagHeader != "" && len(opt.Flags) != len(ids) {
+		return fmt.Errorf("covariates: %d flags for %d samples", len(opt.Flags), len(ids))
+	}
+	return WriteFileAtomic(path, func(w io.Writer) error {
+		bw := bufio.NewWriter(w)
+		for i, h := range hdr {
+			if i > 0 {
+				bw.WriteByte('\t')
+			}
+			bw.WriteString(h)
+		}
+		for j := 0; j < k; j++ {
+			fmt.Fprintf(bw, "\t%s%d", opt.Prefix, j+1)
+		}
+		if opt.FlagHeader != "" {
+			bw.WriteString("\t" + opt.FlagHeader)
+		}
+		bw.WriteByte('\n')
+		for i, id := range ids {
+			bw.WriteString(id)
+			if opt.TwoIDColumns {
+				bw.WriteString("\t" + id)
+			}
+			for j := 0; j < k; j++ {
+				bw.WriteByte('\t')
+				bw.WriteString(FormatFloat(scores(i, j)))
+			}
+			if opt.FlagHeader != "" {
+				bw.WriteString("\t" + opt.Flags[i])
+			}
+			bw.WriteByte('\n')
+		}
+		return bw.Flush()
+	})
+}
+
+// SpectrumRow is one line of spectrum.tsv.
+type SpectrumRow struct {
+	Eigenvalue, VarianceFraction, CumulativeFraction, Residual float64
+	Converged                                                  bool
+	TWStatistic, TWP                                           float64 // NaN when not computed
+}
+
+// SpectrumHeader is the header of spectrum.tsv (design contract).
+const SpectrumHeader = "pc\teigenvalue\tvariance_fraction\tcumulative_fraction\tresidual\tconverged\ttw_statistic\ttw_p"
+
+// WriteSpectrum writes spectrum.tsv atomically.
+func WriteSpectrum(path string, rows []SpectrumRow) error {
+	return WriteFileAtomic(path, func(w io.Writer) error {
+		bw := bufio.NewWriter(w)
+		bw.WriteString(SpectrumHeader + "\n")
+		for i, r := range rows {
+			conv := "no"
+			if r.Converged {
+				conv = "yes"
+			}
+			fmt.Fprintf(bw, "%d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", i+1, FormatFloat(r.Eigenvalue),
+				FormatFloat(r.VarianceFraction), FormatFloat(r.CumulativeFraction), FormatFloat(r.Residual),
+				conv, FormatFloat(r.TWStatistic), FormatFloat(r.TWP))
+		}
+		return bw.Flush()
+	})
+}
+
+// LoadingsWriter streams loadings.tsv.gz: marker identity, the allele
+// counted, its frequency, the scale (standard deviation divided out), then
+// one column per PC.
+type LoadingsWriter struct {
+	a  *AtomicFile
+	gz *gzip.Writer
+	bw *bufio.Writer
+}
+
+// LoadingsHeaderStart is the fixed start of the loadings header.
+const LoadingsHeaderStart = "chrom\tpos\tid\tref\talt\tallele\tfreq\tscale"
+
+// CreateLoadings starts a loadings file for k PCs.
+func CreateLoadings(path string, k int) (*LoadingsWriter, error) {
+	a, err := CreateAtomic(path)
+	if err != nil {
+		return nil, err
+	}
+	gz, _ := gzip.NewWriterLevel(a, gzip.BestSpeed)
+	lw := &LoadingsWriter{a: a, gz: gz, bw: bufio.NewWriterSize(gz, 1<<16)}
+	lw.bw.WriteString(LoadingsHeaderStart)
+	for j := 0; j < k; j++ {
+		fmt.Fprintf(lw.bw, "\tPC%d", j+1)
+	}
+	lw.bw.WriteByte('\n')
+	return lw, nil
+}
+
+// Write adds one marker: the counted allele is ALT, freq its frequency
+// over the kept samples, scale the divisor of the standardization.
+func (lw *LoadingsWriter) Write(m Marker, freq, scale float64, v []float64) error {
+	b := lw.bw
+	b.WriteString(m.Chrom)
+	b.WriteByte('\t')
+	b.WriteString(strconv.FormatInt(m.Pos, 10))
+	b.WriteByte('\t')
+	b.WriteString(m.ID)
+	b.WriteByte('\t')
+	b.WriteString(m.Ref)
+	b.WriteByte('\t')
+	b.WriteString(m.Alt)
+	b.WriteByte('\t')
+	b.WriteString(m.Alt)
+	b.WriteByte('\t')
+	b.WriteString(FormatFloat(freq))
+	b.WriteByte('\t')
+	b.WriteString(FormatFloat(scale))
+	for _, x := range v {
+		b.WriteByte('\t')
+		b.WriteString(FormatFloat(x))
+	}
+	return b.WriteByte('\n')
+}
+
+// Close finishes and commits the file.
+func (lw *LoadingsWriter) Close() error {
+	if err := lw.bw.Flush(); err != nil {
+		lw.a.Discard()
+		return err
+	}
+	if err := lw.gz.Close(); err != nil {
+		lw.a.Discard()
+		return err
+	}
+	return lw.a.Commit()
+}
+
+// Abort removes the partial file.
+func (lw *LoadingsWriter) Abort() { lw.a.Discard() }
+
+// WriteJSON writes v as indented JSON atomically.
+func WriteJSON(path string, v any) error {
+	return WriteFileAtomic(path, func(w io.Writer) error {
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		return enc.Encode(v)
+	})
+}

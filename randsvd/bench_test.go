@@ -1,0 +1,40 @@
+package randsvd
+
+import (
+	"context"
+	"fmt"
+	"math/rand/v2"
+	"testing"
+)
+
+// BenchmarkPass measures one application of K (a pass over the store) and
+// reports genotypes per second and the dense-equivalent GFLOP/s (4*N*M*l
+// flops per pass, design.md performance model).
+func BenchmarkPass(b *testing.B) {
+	n, m, l := 5000, 20000, 20
+	st, _ := testCohort(b, n, m, 3, 0.05, 0.01, 1, 0)
+	x := make([]float64, n*l)
+	r := rand.New(rand.NewPCG(1, 1))
+	for i := range x {
+		x[i] = r.NormFloat64()
+	}
+	y := make([]float64, n*l)
+	for _, th := range []int{1, 2} {
+		b.Run(fmt.Sprintf("threads=%d", th), func(b *testing.B) {
+			op, err := NewOperator(st, OperatorOptions{Threads: th})
+			if err != nil {
+				b.Fatal(err)
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				if err := op.Apply(context.Background(), x, y, l); err != nil {
+					b.Fatal(err)
+				}
+			}
+			sec := b.Elapsed().Seconds() / float64(b.N)
+			b.ReportMetric(float64(n)*float64(m)/sec/1e9, "Ggeno/s")
+			b.ReportMetric(4*float64(n)*float64(m)*float64(l)/sec/1e9, "GFLOP/s-equiv")
+		})
+	}
+}

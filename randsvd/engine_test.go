@@ -1,0 +1,258 @@
+package randsvd
+
+import (
+	"context"
+	"math"
+	"math/rand/v2"
+	"path/filepath"
+	"testing"
+
+	"github.com/clinal/clinal/matrixio"
+	"gonum.org/v1/gonum/mat"
+)
+
+// testCohort writes a store of n samples x m markers drawn from pops
+// populations whose allele frequencies differ by about fst (Balding &
+// Nichols 1995 style Beta draws), with missing calls at rate miss, and
+// returns the store and the genotype codes (marker-major) for the dense
+// reference.
+func testCohort(t testing.TB, n, m, pops int, fst, miss float64, seed uint64, chunk int) (*matrixio.Store, [][]byte) {
+	t.Helper()
+	r := rand.New(rand.NewPCG(seed, 7))
+	samples := make([]string, n)
+	for i := range samples {
+		samples[i] = "s" + itoa(i)
+	}
+	path := filepath.Join(t.TempDir(), "c.clinal")
+	w, err := matrixio.Create(path, samples, matrixio.WriterOptions{ChunkMarkers: chunk, Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	geno := make([][]byte, m)
+	for j := 0; j < m; j++ {
+		p := 0.05 + 0.9*r.Float64()
+		g := make([]byte, n)
+		fr := make([]float64, pops)
+		for k := range fr {
+			fr[k] = p
+			if fst > 0 {
+				fr[k] = betaDraw(r, p*(1-fst)/fst, (1-p)*(1-fst)/fst)
+			}
+		}
+		for i := range g {
+			q := fr[i*pops/n]
+			v := byte(0)
+			if r.Float64() < q {
+				v++
+			}
+			if r.Float64() < q {
+				v++
+			}
+			if r.Float64() < miss {
+				v = matrixio.Missing
+			}
+			g[i] = v
+		}
+		geno[j] = g
+		if err := w.AddGenotypes(matrixio.Marker{Chrom: "1", Pos: int64(j + 1), ID: "m" + itoa(j), Ref: "A", Alt: "G"}, g); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	st, err := matrixio.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { st.Close() })
+	return st, geno
+}
+
+func itoa(i int) string {
+	const d = "0123456789"
+	if i == 0 {
+		return "0"
+	}
+	var b []byte
+	for i > 0 {
+		b = append([]byte{d[i%10]}, b...)
+		i /= 10
+	}
+	return string(b)
+}
+
+// betaDraw samples Beta(a, b) from two Gamma draws (Marsaglia & Tsang 2000).
+func betaDraw(r *rand.Rand, a, b float64) float64 {
+	x, y := gammaDraw(r, a), gammaDraw(r, b)
+	return x / (x + y)
+}
+
+func gammaDraw(r *rand.Rand, a float64) float64 {
+	if a < 1 {
+		return gammaDraw(r, a+1) * math.Pow(r.Float64(), 1/a)
+	}
+	d := a - 1.0/3
+	c := 1 / math.Sqrt(9*d)
+	for {
+		x := r.NormFloat64()
+		v := 1 + c*x
+		if v <= 0 {
+			continue
+		}
+		v = v * v * v
+		u := r.Float64()
+		if math.Log(u) < 0.5*x*x+d-d*v+d*math.Log(v) {
+			return d * v
+		}
+	}
+}
+
+// denseK builds K = Z^T Z / M in float64 directly from the genotype codes
+// with the Patterson et al. 2006 standardization (the reference the
+// operator must match).
+func denseK(geno [][]byte, n int) *mat.SymDense {
+	z := mat.NewDense(len(geno), n, nil)
+	m := 0
+	for _, g := range geno {
+		var s, c float64
+		for _, v := range g {
+			if v != matrixio.Missing {
+				s += float64(v)
+				c++
+			}
+		}
+		p := s / (2 * c)
+		sd := math.Sqrt(2 * p * (1 - p))
+		if !(sd > 1e-12) {
+			continue
+		}
+		for i, v := range g {
+			if v != matrixio.Missing {
+				z.Set(m, i, (float64(v)-2*p)/sd)
+			}
+		}
+		m++
+	}
+	zz := z.Slice(0, m, 0, n)
+	k := mat.NewSymDense(n, nil)
+	k.SymOuterK(1/float64(m), zz.T())
+	return k
+}
+
+type denseOp struct{ k *mat.SymDense }
+
+func (d denseOp) Dim() int { return d.k.SymmetricDim() }
+func (d denseOp) Apply(_ context.Context, x, y []float64, l int) error {
+	n := d.Dim()
+	var out mat.Dense
+	out.Mul(d.k, mat.NewDense(n, l, x))
+	copy(y, out.RawMatrix().Data)
+	return nil
+}
+
+// TestOperatorMatchesDense checks one pass of the store operator against
+// the dense float64 K from gonum (the reference library), for 1 and 3
+// threads, and that the results are bit-identical across thread counts.
+func TestOperatorMatchesDense(t *testing.T) {
+	st, geno := testCohort(t, 203, 517, 3, 0.05, 0.02, 1, 64)
+	ref := denseOp{denseK(geno, 203)}
+	l := 7
+	r := rand.New(rand.NewPCG(3, 4))
+	x := make([]float64, 203*l)
+	for i := range x {
+		x[i] = r.NormFloat64()
+	}
+	want := make([]float64, len(x))
+	ref.Apply(context.Background(), x, want, l)
+	var first []float64
+	for _, th := range []int{1, 3} {
+		op, err := NewOperator(st, OperatorOptions{Threads: th})
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := make([]float64, len(x))
+		if err := op.Apply(context.Background(), x, got, l); err != nil {
+			t.Fatal(err)
+		}
+		for i := range got {
+			if d := math.Abs(got[i] - want[i]); d > 1e-12*(1+math.Abs(want[i])) {
+				t.Fatalf("threads %d: y[%d] = %v, dense %v", th, i, got[i], want[i])
+			}
+		}
+		if first == nil {
+			first = got
+		} else {
+			for i := range got {
+				if got[i] != first[i] {
+					t.Fatalf("threads %d: y[%d] differs bitwise from threads 1", th, i)
+				}
+			}
+		}
+		// Trace: exact, equal to the dense trace.
+		if d := math.Abs(op.Trace() - mat.Trace(ref.k)); d > 1e-10*mat.Trace(ref.k) {
+			t.Errorf("trace %v, dense %v", op.Trace(), mat.Trace(ref.k))
+		}
+	}
+}
+
+// TestSolveAgainstEigenSym compares the solver's eigenpairs with gonum's
+// dense mat.EigenSym of K on structured and null cohorts.
+func TestSolveAgainstEigenSym(t *testing.T) {
+	cases := []struct {
+		name       string
+		n, m, pops int
+		fst        float64
+		seed       uint64
+		sig        int // structured PCs (pops-1)
+	}{
+		{"structured-3pop", 300, 3000, 3, 0.05, 11, 2},
+		{"structured-5pop", 250, 2000, 5, 0.08, 12, 4},
+		{"null", 200, 1500, 1, 0, 13, 0},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			st, geno := testCohort(t, tc.n, tc.m, tc.pops, tc.fst, 0.01, tc.seed, 128)
+			kd := denseK(geno, tc.n)
+			var es mat.EigenSym
+			if !es.Factorize(kd, true) {
+				t.Fatal("EigenSym failed")
+			}
+			vals := es.Values(nil)
+			var vecs mat.Dense
+			es.VectorsTo(&vecs)
+			op, err := NewOperator(st, OperatorOptions{Threads: 2})
+			if err != nil {
+				t.Fatal(err)
+			}
+			k := 10
+			res, err := Solve(context.Background(), op, SolveOptions{K: k, Seed: 5, Tol: 1e-7})
+			if err != nil {
+				t.Fatal(err)
+			}
+			t.Logf("passes %d, rel residuals %v", res.Passes, res.History[len(res.History)-1])
+			var capt, exact float64
+			for j := 0; j < k; j++ {
+				ev := vals[tc.n-1-j]
+				exact += ev
+				u := res.Vectors.ColView(j)
+				var ku mat.VecDense
+				ku.MulVec(kd, u)
+				capt += mat.Dot(u, &ku)
+				if j < tc.sig {
+					if rel := math.Abs(res.Eigenvalues[j]-ev) / ev; rel > 1e-8 {
+						t.Errorf("PC%d: eigenvalue %v, EigenSym %v (rel %g)", j+1, res.Eigenvalues[j], ev, rel)
+					}
+					ref := vecs.ColView(tc.n - 1 - j)
+					c := math.Min(1, math.Abs(mat.Dot(u, ref)))
+					if ang := math.Acos(c); ang > 1e-6 {
+						t.Errorf("PC%d: angle to EigenSym vector %g rad", j+1, ang)
+					}
+				}
+			}
+			if capt/exact < 0.99 {
+				t.Errorf("captured variance of top %d: %v of exact", k, capt/exact)
+			}
+		})
+	}
+}

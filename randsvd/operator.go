@@ -1,0 +1,631 @@
+// Package randsvd is the numerical core of clinal: the standardized
+// genotype operator over a store, the randomized block Krylov eigensolver
+// with Rayleigh-Ritz and residual-based stopping, Tracy-Widom significance
+// and projection of new samples.
+//
+// # Conventions
+//
+// Z is the M x N standardized matrix of the kept markers (rows) and samples
+// (columns): z = (g - 2p) / sqrt(2p(1-p)) for hard calls (Patterson, Price &
+// Reich 2006, PLoS Genet 2:e190), with p the ALT allele frequency over the
+// kept samples' non-missing calls and missing calls set to 0 (mean
+// imputation). The operator is K = Z^T Z / M, N x N, whose eigenvalues have
+// mean about 1 for unstructured data. Its eigenvectors are the sample scores.
+//
+// # Precision policy
+//
+// Hard-call chunks are never expanded to floating-point blocks: each 2-bit
+// code selects one of the marker's four standardized values (in float64),
+// and both products of a pass, W = Z_b X and Y += Z_b^T W, are computed in
+// float64 from those values. The only rounding is float64 rounding of sums,
+// so results agree with a dense float64 computation to about 1e-13 relative.
+// Float (dosage) chunks are decoded from float32, which is their stored
+// precision, and then handled in float64 the same way.
+//
+// # Determinism
+//
+// The first product is split over markers (each W row is summed over
+// samples by one goroutine in sample order) and the second over samples
+// (each Y row is summed over markers by one goroutine in marker order), so
+// every floating-point sum has an order that does not depend on the thread
+// count: results are bit-identical for any number of threads.
+package randsvd
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"sync"
+
+	"github.com/clinal/clinal/matrixio"
+)
+
+// Scaling selects the standardization of each marker.
+type Scaling string
+
+const (
+	// ScalePatterson is z = (g - 2p)/sqrt(2p(1-p)) (Patterson et al. 2006);
+	// for float stores p = mean/2 (dosages).
+	ScalePatterson Scaling = "patterson"
+	// ScaleCenter is z = g - 2p (centring only).
+	ScaleCenter Scaling = "center"
+	// ScaleZ is z = (x - mean)/sd with the empirical standard deviation,
+	// for dense numeric data that are not allele dosages.
+	ScaleZ Scaling = "zscore"
+)
+
+// OperatorOptions configure an Operator.
+type OperatorOptions struct {
+	SampleKept []bool            // nil keeps all
+	MarkerKept []bool            // nil keeps all
+	Counts     []matrixio.Counts // per-marker counts over the kept samples; nil uses the store's
+	Scaling    Scaling           // default ScalePatterson
+	Threads    int               // compute goroutines (default 1)
+	Buffers    int               // chunk buffers in flight (default Threads+1)
+	Chunks     []int             // restrict the pass to these chunks (a shard); nil for all
+	Progress   func(done, total int)
+}
+
+// Operator applies K = Z^T Z / M for the kept samples and markers of a
+// store, streaming the chunks once per application.
+type Operator struct {
+	st      *matrixio.Store
+	n       int   // store samples
+	kept    []int // kept sample -> store index
+	markers []int // kept markers (store indices), ascending
+	center  []float64
+	scale   []float64
+	tab     [][4]float64 // geno2: standardized value per code (missing 0)
+	base    []uint8      // geno2: most frequent code per marker
+	chunks  []int
+	// chunkSel[c] lists offsets within chunk c of kept markers and their
+	// kept-marker ordinal.
+	chunkSel map[int][]sel
+	threads  int
+	buffers  int
+	trace    float64
+	mTotal   int // markers of the whole selection (the M in 1/M)
+	float    bool
+	progress func(done, total int)
+	dropped  DroppedMarkers
+	isKept   []bool
+}
+
+type sel struct {
+	off int // within chunk
+	ord int // kept-marker ordinal
+}
+
+// DroppedMarkers counts markers the operator excluded even though they were
+// selected, because they carry no variation among the kept samples.
+type DroppedMarkers struct {
+	Monomorphic int `json:"monomorphic"`
+	NoCalls     int `json:"no_calls"`
+}
+
+// NewOperator prepares the operator: standardization constants from the
+// counts and the chunk plan. Markers without variance among the kept
+// samples are excluded and counted (Dropped).
+func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
+	n, m := st.NumSamples(), st.NumMarkers()
+	if opt.SampleKept != nil && len(opt.SampleKept) != n {
+		return nil, fmt.Errorf("operator: sample mask of %d for %d samples", len(opt.SampleKept), n)
+	}
+	if opt.MarkerKept != nil && len(opt.MarkerKept) != m {
+		return nil, fmt.Errorf("operator: marker mask of %d for %d markers", len(opt.MarkerKept), m)
+	}
+	counts := opt.Counts
+	if counts == nil {
+		counts = st.Counts()
+	}
+	if len(counts) != m {
+		return nil, fmt.Errorf("operator: %d counts for %d markers", len(counts), m)
+	}
+	if opt.Scaling == "" {
+		opt.Scaling = ScalePatterson
+	}
+	if opt.Threads < 1 {
+		opt.Threads = 1
+	}
+	if opt.Buffers < 1 {
+		opt.Buffers = opt.Threads + 1
+	}
+	op := &Operator{st: st, n: n, threads: opt.Threads, buffers: opt.Buffers,
+		float: st.Codec() == matrixio.CodecFloat32, progress: opt.Progress, chunkSel: map[int][]sel{}}
+	op.isKept = make([]bool, n)
+	for i := 0; i < n; i++ {
+		if opt.SampleKept == nil || opt.SampleKept[i] {
+			op.kept = append(op.kept, i)
+			op.isKept[i] = true
+		}
+	}
+	if len(op.kept) < n && opt.Counts == nil {
+		return nil, fmt.Errorf("operator: samples were dropped but no counts over the kept samples were given")
+	}
+	if len(op.kept) < 2 {
+		return nil, matrixio.BadInput("operator: %d samples kept; PCA needs at least 2", len(op.kept))
+	}
+	var inChunk map[int]bool
+	if opt.Chunks != nil {
+		inChunk = map[int]bool{}
+		for _, c := range opt.Chunks {
+			inChunk[c] = true
+		}
+	}
+	for j := 0; j < m; j++ {
+		if opt.MarkerKept != nil && !opt.MarkerKept[j] {
+			continue
+		}
+		c := counts[j]
+		called := float64(c.Called())
+		if called == 0 {
+			op.dropped.NoCalls++
+			continue
+		}
+		var mu, sd float64
+		if op.float {
+			mu = c.Sum / called
+			switch opt.Scaling {
+			case ScaleZ:
+				sd = math.Sqrt(math.Max(c.SumSq/called-mu*mu, 0))
+			case ScalePatterson:
+				p := mu / 2
+				sd = math.Sqrt(2 * p * (1 - p))
+			default:
+				sd = 1
+				if c.SumSq/called-mu*mu <= 0 {
+					sd = 0
+				}
+			}
+		} else {
+			p := (float64(c.Het) + 2*float64(c.HomAlt)) / (2 * called)
+			mu = 2 * p
+			sd = math.Sqrt(2 * p * (1 - p))
+			if opt.Scaling == ScaleCenter && sd > 0 {
+				sd = 1
+			}
+		}
+		if !(sd > 1e-12) || math.IsNaN(sd) {
+			op.dropped.Monomorphic++
+			continue
+		}
+		op.mTotal++
+		if inChunk != nil && !inChunk[st.ChunkOf(j)] {
+			continue
+		}
+		ord := len(op.markers)
+		op.markers = append(op.markers, j)
+		op.center = append(op.center, mu)
+		op.scale = append(op.scale, 1/sd)
+		if !op.float {
+			var t [4]float64
+			for g := 0; g < 3; g++ {
+				t[g] = (float64(g) - mu) / sd
+			}
+			op.tab = append(op.tab, t)
+			op.base = append(op.base, baseCode(c))
+			// Exact trace contribution from counts: sum_c n_c t_c^2.
+			op.trace += float64(c.HomRef)*t[0]*t[0] + float64(c.Het)*t[1]*t[1] + float64(c.HomAlt)*t[2]*t[2]
+		}
+		ch := st.ChunkOf(j)
+		first, _ := st.ChunkSpan(ch)
+		if _, ok := op.chunkSel[ch]; !ok {
+			op.chunks = append(op.chunks, ch)
+		}
+		op.chunkSel[ch] = append(op.chunkSel[ch], sel{off: j - first, ord: ord})
+	}
+	if op.mTotal == 0 {
+		return nil, matrixio.BadInput("operator: no polymorphic markers left after filters")
+	}
+	if op.float {
+		op.trace = math.NaN() // computed during the first pass
+	}
+	return op, nil
+}
+
+// baseCode is the most frequent code of a marker: its class sum is derived
+// from the total instead of being accumulated, so the common genotype costs
+// nothing.
+func baseCode(c matrixio.Counts) uint8 {
+	b, best := uint8(0), c.HomRef
+	if c.Het > best {
+		b, best = 1, c.Het
+	}
+	if c.HomAlt > best {
+		b, best = 2, c.HomAlt
+	}
+	if c.Missing > best {
+		b = 3
+	}
+	return b
+}
+
+// Dim returns the number of kept samples (the order of K).
+func (op *Operator) Dim() int { return len(op.kept) }
+
+// Markers returns M, the number of markers of the whole selection.
+func (op *Operator) Markers() int { return op.mTotal }
+
+// KeptSamples returns the store indices of the kept samples.
+func (op *Operator) KeptSamples() []int { return op.kept }
+
+// KeptMarkers returns the store indices of the markers this operator
+// streams (all of the selection, or those of its shard).
+func (op *Operator) KeptMarkers() []int { return op.markers }
+
+// Standardization returns the centre and the inverse scale of each kept
+// marker, in KeptMarkers order.
+func (op *Operator) Standardization() (center, invScale []float64) { return op.center, op.scale }
+
+// Dropped returns the markers excluded for lack of variation.
+func (op *Operator) Dropped() DroppedMarkers { return op.dropped }
+
+// Trace returns trace(K) = ||Z||_F^2 / M: exact, from the counts for hard
+// calls; for float stores it is known after the first Apply (NaN before).
+func (op *Operator) Trace() float64 { return op.trace / float64(op.mTotal) }
+
+// Chunks returns the chunks one application streams.
+func (op *Operator) Chunks() int { return len(op.chunks) }
+
+// workspace holds per-pass buffers, reused across chunks.
+type workspace struct {
+	l      int
+	x      []float64 // store-sample rows of X (zero for dropped samples)
+	y      []float64 // store-sample rows of Y
+	tot    []float64 // column sums of x
+	w      []float64 // b x l
+	d      []float64 // b x 4 x l coefficients of the second product
+	z      []float64 // float stores: b x N standardized block
+	btot   []float64 // sum over markers of t_base * W_j
+	acc    [][]float64
+	trace  []float64 // float stores: per-marker sum of squares
+	traceS float64
+}
+
+// Apply computes Y = K X for X with Dim() rows and l columns (row-major,
+// len Dim()*l), in one pass over the chunks. Y must have the same shape.
+func (op *Operator) Apply(ctx context.Context, x, y []float64, l int) error {
+	return op.apply(ctx, x, y, l, true)
+}
+
+// ApplyPartial computes Y = Z_s^T Z_s X / M for the chunks of this operator
+// only (its shard), with the same scaling as the whole selection, so the
+// partials of disjoint shards sum to K X.
+func (op *Operator) ApplyPartial(ctx context.Context, x, y []float64, l int) error {
+	return op.apply(ctx, x, y, l, false)
+}
+
+func (op *Operator) apply(ctx context.Context, x, y []float64, l int, _ bool) error {
+	nk := len(op.kept)
+	if l < 1 || len(x) != nk*l || len(y) != nk*l {
+		return fmt.Errorf("operator: shapes x %d, y %d for %d x %d", len(x), len(y), nk, l)
+	}
+	ws := &workspace{l: l, x: make([]float64, op.n*l), y: make([]float64, op.n*l),
+		tot: make([]float64, l), btot: make([]float64, l)}
+	ws.acc = make([][]float64, op.threads)
+	for t := range ws.acc {
+		ws.acc[t] = make([]float64, 4*l)
+	}
+	for r, i := range op.kept {
+		copy(ws.x[i*l:(i+1)*l], x[r*l:(r+1)*l])
+	}
+	for r := 0; r < nk; r++ {
+		row := x[r*l : (r+1)*l]
+		for k, v := range row {
+			ws.tot[k] += v
+		}
+	}
+	done := 0
+	err := op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		if op.float {
+			op.floatChunk(ws, c)
+		} else {
+			op.genoChunk(ws, c)
+		}
+		done++
+		if op.progress != nil {
+			op.progress(done, len(op.chunks))
+		}
+		return nil
+	})
+	if err != nil {
+		if errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
+			return err
+		}
+		return fmt.Errorf("pass over %s: %w", op.st.Path(), err)
+	}
+	if op.float && math.IsNaN(op.trace) {
+		var t float64
+		for _, v := range ws.trace {
+			t += v
+		}
+		op.trace = t
+	}
+	inv := 1 / float64(op.mTotal)
+	for r, i := range op.kept {
+		yr := y[r*l : (r+1)*l]
+		src := ws.y[i*l : (i+1)*l]
+		for k := range yr {
+			yr[k] = (src[k] + ws.btot[k]) * inv
+		}
+	}
+	return nil
+}
+
+// split returns the [a,b) range of part t of n items in p parts, aligned
+// to multiples of align.
+func split(n, p, t, align int) (int, int) {
+	units := (n + align - 1) / align
+	a := t * units / p * align
+	b := (t + 1) * units / p * align
+	return min(a, n), min(b, n)
+}
+
+func (op *Operator) parallel(fn func(t int)) {
+	if op.threads == 1 {
+		fn(0)
+		return
+	}
+	var wg sync.WaitGroup
+	for t := 0; t < op.threads; t++ {
+		wg.Add(1)
+		go func(t int) {
+			defer wg.Done()
+			fn(t)
+		}(t)
+	}
+	wg.Wait()
+}
+
+func grow(b []float64, n int) []float64 {
+	if cap(b) < n {
+		return make([]float64, n)
+	}
+	return b[:n]
+}
+
+// genoChunk applies one chunk of 2-bit calls. For marker j with base code b
+// and values t_c, W_j = t_b * T + sum_{c != b} (t_c - t_b) S_c, where T is
+// the column sum of X and S_c the sum of the rows of X whose call is c; so
+// only the samples that do not carry the base genotype are touched. The
+// second product is Y_i += t_b W_j (accumulated once, in btot) plus
+// (t_c - t_b) W_j for the samples whose call c differs from b.
+func (op *Operator) genoChunk(ws *workspace, c *matrixio.Chunk) {
+	sels := op.chunkSel[c.Index]
+	l := ws.l
+	nb := len(sels)
+	ws.d = grow(ws.d, nb*4*l)
+	rb := op.st.RowBytes()
+	n := op.n
+	op.genoFirst(ws, c, sels)
+	// Coefficients for the second product, in marker order.
+	for q := 0; q < nb; q++ {
+		s := sels[q]
+		base := op.base[s.ord]
+		tb := op.tab[s.ord][base]
+		w := ws.w[q*l : (q+1)*l]
+		for k := range w {
+			ws.btot[k] += tb * w[k]
+		}
+		d := ws.d[q*4*l : (q+1)*4*l]
+		for cl := 0; cl < 4; cl++ {
+			dc := d[cl*l : (cl+1)*l]
+			f := op.tab[s.ord][cl] - tb
+			if uint8(cl) == base {
+				f = 0
+			}
+			for k := range dc {
+				dc[k] = f * w[k]
+			}
+		}
+	}
+	// Second product: over samples, byte-aligned ranges.
+	op.parallel(func(t int) {
+		a, b := split(n, op.threads, t, 4)
+		if a >= b {
+			return
+		}
+		for q := 0; q < nb; q++ {
+			s := sels[q]
+			row := c.Raw[s.off*rb : (s.off+1)*rb]
+			scatter(row, a, b, op.base[s.ord], ws.d[q*4*l:(q+1)*4*l], ws.y, l)
+		}
+	})
+}
+
+// genoFirst computes W = Z_b X for the kept markers of a 2-bit chunk into
+// ws.w (one row per entry of sels), split over markers.
+func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
+	l, nb, n := ws.l, len(sels), op.n
+	rb := op.st.RowBytes()
+	ws.w = grow(ws.w, nb*l)
+	op.parallel(func(t int) {
+		a, b := split(nb, op.threads, t, 1)
+		acc := ws.acc[t]
+		for q := a; q < b; q++ {
+			s := sels[q]
+			row := c.Raw[s.off*rb : (s.off+1)*rb]
+			base := op.base[s.ord]
+			clear(acc)
+			classSums(row, n, base, ws.x, acc, l)
+			tb := op.tab[s.ord][base]
+			w := ws.w[q*l : (q+1)*l]
+			for k := range w {
+				w[k] = tb * ws.tot[k]
+			}
+			for cl := uint8(0); cl < 4; cl++ {
+				if cl == base {
+					continue
+				}
+				f := op.tab[s.ord][cl] - tb
+				ac := acc[int(cl)*l : int(cl+1)*l]
+				for k := range w {
+					w[k] += f * ac[k]
+				}
+			}
+		}
+	})
+}
+
+// classSums adds, for every sample i whose code differs from base, row i of
+// x into acc[code].
+func classSums(row []byte, n int, base uint8, x, acc []float64, l int) {
+	rep := base * 0x55
+	for bi, by := range row {
+		if by == rep {
+			continue
+		}
+		i0 := bi * 4
+		for s := 0; s < 4; s++ {
+			code := (by >> (2 * uint(s))) & 3
+			i := i0 + s
+			if code == base || i >= n {
+				continue
+			}
+			addTo(acc[int(code)*l:int(code+1)*l], x[i*l:(i+1)*l])
+		}
+	}
+}
+
+// scatter adds d[code] to row i of y for samples i in [a,b) whose code
+// differs from base (a is a multiple of 4).
+func scatter(row []byte, a, b int, base uint8, d, y []float64, l int) {
+	rep := base * 0x55
+	for bi := a >> 2; bi < (b+3)>>2; bi++ {
+		by := row[bi]
+		if by == rep {
+			continue
+		}
+		i0 := bi * 4
+		for s := 0; s < 4; s++ {
+			code := (by >> (2 * uint(s))) & 3
+			i := i0 + s
+			if code == base || i >= b {
+				continue
+			}
+			addTo(y[i*l:(i+1)*l], d[int(code)*l:int(code+1)*l])
+		}
+	}
+}
+
+// addTo computes dst += src.
+func addTo(dst, src []float64) {
+	src = src[:len(dst)]
+	k := 0
+	for ; k+4 <= len(dst); k += 4 {
+		dst[k] += src[k]
+		dst[k+1] += src[k+1]
+		dst[k+2] += src[k+2]
+		dst[k+3] += src[k+3]
+	}
+	for ; k < len(dst); k++ {
+		dst[k] += src[k]
+	}
+}
+
+// floatChunk applies one chunk of float values with dense products.
+func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
+	sels := op.chunkSel[c.Index]
+	l, n := ws.l, op.n
+	nb := len(sels)
+	tr := op.floatFirst(ws, c, sels)
+	ws.trace = append(ws.trace, tr...)
+	op.parallel(func(t int) {
+		a, b := split(n, op.threads, t, 1)
+		for q := 0; q < nb; q++ {
+			z := ws.z[q*n : (q+1)*n]
+			w := ws.w[q*l : (q+1)*l]
+			for i := a; i < b; i++ {
+				zi := z[i]
+				if zi == 0 {
+					continue
+				}
+				yi := ws.y[i*l : (i+1)*l]
+				for k := range yi {
+					yi[k] += zi * w[k]
+				}
+			}
+		}
+	})
+}
+
+// MarkerProducts streams W = Z X (one row of l values per kept marker, in
+// KeptMarkers order) to fn: half a pass, used for marker loadings. X has
+// Dim() rows and l columns, row-major. The slice passed to fn is reused.
+func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn func(ord int, w []float64) error) error {
+	nk := len(op.kept)
+	if l < 1 || len(x) != nk*l {
+		return fmt.Errorf("operator: shape x %d for %d x %d", len(x), nk, l)
+	}
+	ws := &workspace{l: l, x: make([]float64, op.n*l), tot: make([]float64, l)}
+	ws.acc = make([][]float64, op.threads)
+	for t := range ws.acc {
+		ws.acc[t] = make([]float64, 4*l)
+	}
+	for r, i := range op.kept {
+		copy(ws.x[i*l:(i+1)*l], x[r*l:(r+1)*l])
+		for k, v := range x[r*l : (r+1)*l] {
+			ws.tot[k] += v
+		}
+	}
+	return op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		sels := op.chunkSel[c.Index]
+		if op.float {
+			ws.y = grow(ws.y, op.n*l) // unused second product target
+			op.floatFirst(ws, c, sels)
+		} else {
+			op.genoFirst(ws, c, sels)
+		}
+		for q, s := range sels {
+			if err := fn(s.ord, ws.w[q*l:(q+1)*l]); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+}
+
+// floatFirst decodes and standardizes a float chunk into ws.z and computes
+// W = Z_b X into ws.w; it returns each marker's sum of squares.
+func (op *Operator) floatFirst(ws *workspace, c *matrixio.Chunk, sels []sel) []float64 {
+	l, n, nb := ws.l, op.n, len(sels)
+	rb := op.st.RowBytes()
+	ws.w = grow(ws.w, nb*l)
+	ws.z = grow(ws.z, nb*n)
+	tr := make([]float64, nb)
+	op.parallel(func(t int) {
+		a, b := split(nb, op.threads, t, 1)
+		vals := make([]float32, n)
+		for q := a; q < b; q++ {
+			s := sels[q]
+			matrixio.DecodeFloats(c.Raw[s.off*rb:(s.off+1)*rb], vals)
+			z := ws.z[q*n : (q+1)*n]
+			mu, inv := op.center[s.ord], op.scale[s.ord]
+			w := ws.w[q*l : (q+1)*l]
+			clear(w)
+			var ss float64
+			for i, v := range vals {
+				if v != v || !op.isKept[i] {
+					z[i] = 0
+					continue
+				}
+				zi := (float64(v) - mu) * inv
+				z[i] = zi
+				ss += zi * zi
+				xi := ws.x[i*l : (i+1)*l]
+				for k := range w {
+					w[k] += zi * xi[k]
+				}
+			}
+			tr[q] = ss
+		}
+	})
+	return tr
+}

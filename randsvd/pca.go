@@ -1,0 +1,197 @@
+package randsvd
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"github.com/clinal/clinal/matrixio"
+	"gonum.org/v1/gonum/mat"
+)
+
+// PCAOptions configure RunPCA.
+type PCAOptions struct {
+	K          int
+	Oversample int
+	Tol        float64
+	MaxPasses  int
+	Seed       uint64
+	Threads    int
+	Memory     int64 // bytes; 0 means no promise
+	Scaling    Scaling
+	SampleKept []bool            // nil keeps all
+	MarkerKept []bool            // nil keeps all
+	Counts     []matrixio.Counts // over kept samples; nil uses the store's
+	// Progress reports chunks done within a pass.
+	Progress func(pass, done, total int)
+	// Pass reports the end of each pass.
+	Pass       func(pass int, maxRel float64)
+	Checkpoint func(*State) error
+	Resume     *State
+}
+
+// PCAResult is the outcome of RunPCA.
+type PCAResult struct {
+	Samples     []int // store indices of the kept samples, in store order
+	Eigenvalues []float64
+	Residuals   []float64
+	Converged   []bool
+	Scores      *mat.Dense // kept samples x K, unit-norm columns
+	Trace       float64    // exact trace(K) = sum of all N eigenvalues
+	TraceSqEst  float64    // Hutchinson estimate of trace(K^2)
+	Markers     int        // M: markers in the operator
+	Passes      int
+	StopReason  string
+	BlockSize   int
+	History     [][]float64
+	Dropped     DroppedMarkers
+	MPEdge      float64 // (trace/N) (1 + sqrt(N/M))^2
+	Plan        MemoryPlan
+}
+
+// MemoryPlan is how a run fits its memory promise.
+type MemoryPlan struct {
+	BlockSize    int   `json:"block_size"`
+	Buffers      int   `json:"chunk_buffers"`
+	SolverBytes  int64 `json:"solver_bytes"`
+	ChunkBytes   int64 `json:"chunk_buffer_bytes"`
+	TableBytes   int64 `json:"table_bytes"`
+	TotalBytes   int64 `json:"total_bytes"`
+	LimitBytes   int64 `json:"limit_bytes"`
+	MinimumBytes int64 `json:"minimum_bytes"`
+}
+
+// solverBlocks is the number of N x l float64 blocks alive at once: the
+// solver's U, KU, R, KR and the new U, KU, plus the operator's X and Y in
+// store-sample space.
+const solverBlocks = 8
+
+// runtimeOverhead is memory reserved for the Go runtime, code and small
+// allocations.
+const runtimeOverhead = 48 << 20
+
+// PlanMemory chooses the number of chunk buffers so the run fits limit
+// bytes (0: no limit, Threads+1 buffers) and refuses with the minimum it
+// needs when even the N x l blocks and two buffers do not fit.
+func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (MemoryPlan, error) {
+	n := st.NumSamples()
+	if oversample <= 0 {
+		oversample = max(10, k/2)
+	}
+	l := min(k+oversample, n)
+	p := MemoryPlan{BlockSize: l, LimitBytes: limit}
+	p.SolverBytes = int64(solverBlocks) * int64(n) * int64(l) * 8
+	p.ChunkBytes = st.ChunkBufferBytes() + int64(st.ChunkMarkers())*int64(5*l)*8
+	if st.Codec() == matrixio.CodecFloat32 {
+		p.ChunkBytes += int64(st.ChunkMarkers()) * int64(n) * 8 // standardized block
+	}
+	p.TableBytes = int64(st.NumMarkers())*160 + int64(n)*64
+	fixed := p.SolverBytes + p.TableBytes + runtimeOverhead
+	p.MinimumBytes = fixed + 2*p.ChunkBytes
+	p.Buffers = max(2, threads+1)
+	if limit > 0 {
+		if p.MinimumBytes > limit {
+			return p, matrixio.BadInput("--memory %s is too small: %d samples x block of %d vectors and two chunk buffers need at least %s",
+				FormatBytes(limit), n, l, FormatBytes(p.MinimumBytes))
+		}
+		for p.Buffers > 2 && fixed+int64(p.Buffers)*p.ChunkBytes > limit {
+			p.Buffers--
+		}
+	}
+	p.TotalBytes = fixed + int64(p.Buffers)*p.ChunkBytes
+	return p, nil
+}
+
+// FormatBytes renders a byte count with a binary unit.
+func FormatBytes(b int64) string {
+	f := float64(b)
+	for _, u := range []string{"B", "KiB", "MiB", "GiB", "TiB"} {
+		if f < 1024 || u == "TiB" {
+			if u == "B" {
+				return fmt.Sprintf("%d B", b)
+			}
+			return fmt.Sprintf("%.1f %s", f, u)
+		}
+		f /= 1024
+	}
+	return ""
+}
+
+// MPUpperEdgeScaled is the Marchenko-Pastur upper edge (1 + sqrt(N/M))^2
+// (see design: null spectrum) scaled by the mean eigenvalue trace/N, which
+// is 1 for exactly standardized data.
+func MPUpperEdgeScaled(trace float64, n, m int) float64 {
+	g := math.Sqrt(float64(n) / float64(m))
+	return trace / float64(n) * (1 + g) * (1 + g)
+}
+
+// RunPCA computes the top-K principal components of the standardized store
+// for the kept samples and markers, within the memory plan.
+func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult, *Operator, error) {
+	if opt.K < 1 {
+		return nil, nil, matrixio.BadInput("-k %d: want at least 1 PC", opt.K)
+	}
+	plan, err := PlanMemory(st, opt.K, opt.Oversample, opt.Threads, opt.Memory)
+	if err != nil {
+		return nil, nil, err
+	}
+	pass := 0
+	var prog func(done, total int)
+	if opt.Progress != nil {
+		prog = func(done, total int) { opt.Progress(pass+1, done, total) }
+	}
+	op, err := NewOperator(st, OperatorOptions{SampleKept: opt.SampleKept, MarkerKept: opt.MarkerKept,
+		Counts: opt.Counts, Scaling: opt.Scaling, Threads: opt.Threads, Buffers: plan.Buffers, Progress: prog})
+	if err != nil {
+		return nil, nil, err
+	}
+	if opt.K > op.Dim() {
+		return nil, nil, matrixio.BadInput("-k %d exceeds the %d samples kept", opt.K, op.Dim())
+	}
+	trace := op.Trace()
+	edge := 0.0
+	if !math.IsNaN(trace) {
+		edge = MPUpperEdgeScaled(trace, op.Dim(), op.Markers())
+	}
+	res, err := Solve(ctx, op, SolveOptions{K: opt.K, Oversample: opt.Oversample, Tol: opt.Tol,
+		MaxPasses: opt.MaxPasses, Seed: opt.Seed, BulkEdge: edge, Checkpoint: opt.Checkpoint, Resume: opt.Resume,
+		Pass: func(p int, rel float64) {
+			pass = p
+			if opt.Pass != nil {
+				opt.Pass(p, rel)
+			}
+		}})
+	if err != nil {
+		return nil, nil, err
+	}
+	out := &PCAResult{Samples: op.KeptSamples(), Eigenvalues: res.Eigenvalues, Residuals: res.Residuals,
+		Converged: res.Converged, Scores: res.Vectors, Trace: op.Trace(), TraceSqEst: res.TraceSqEst,
+		Markers: op.Markers(), Passes: res.Passes, StopReason: res.StopReason, BlockSize: res.BlockSize,
+		History: res.History, Dropped: op.Dropped(), Plan: plan}
+	out.MPEdge = MPUpperEdgeScaled(out.Trace, op.Dim(), op.Markers())
+	return out, op, nil
+}
+
+// Loadings streams the marker loadings v_k = Z u_k / sqrt(M lambda_k) (unit
+// norm over markers) for the kept markers in store order, so a new sample
+// with standardized vector z projects as score_k = z . v_k / sqrt(M
+// lambda_k). fn receives the kept-marker ordinal and the K loadings
+// (reused slice).
+func Loadings(ctx context.Context, op *Operator, res *PCAResult, fn func(ord int, v []float64) error) error {
+	n, k := res.Scores.Dims()
+	x := make([]float64, n*k)
+	for i := 0; i < n; i++ {
+		copy(x[i*k:(i+1)*k], res.Scores.RawRowView(i))
+	}
+	inv := make([]float64, k)
+	for j := range inv {
+		inv[j] = 1 / math.Sqrt(float64(op.Markers())*math.Max(res.Eigenvalues[j], 1e-300))
+	}
+	v := make([]float64, k)
+	return op.MarkerProducts(ctx, x, k, func(ord int, w []float64) error {
+		for j := range v {
+			v[j] = w[j] * inv[j]
+		}
+		return fn(ord, v)
+	})
+}

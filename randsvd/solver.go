@@ -1,0 +1,459 @@
+package randsvd
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"sort"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// Applier is a symmetric positive semi-definite N x N operator applied to
+// blocks of l vectors stored row-major (len N*l). Operator implements it;
+// tests use dense matrices; the cluster driver sums shard partials.
+type Applier interface {
+	Dim() int
+	Apply(ctx context.Context, x, y []float64, l int) error
+}
+
+// SolveOptions configure Solve.
+type SolveOptions struct {
+	K          int     // eigenpairs wanted
+	Oversample int     // extra block columns (default max(10, K/2))
+	Tol        float64 // residual tolerance relative to the eigenvalue (default 1e-6)
+	MaxPasses  int     // applications of the operator (default 30)
+	Seed       uint64
+	// BulkEdge, when > 0, is the upper edge of the noise bulk of the
+	// spectrum (Marchenko-Pastur, see MPUpperEdge). Pairs whose Ritz value
+	// is below it carry no structure and their eigenvectors are not
+	// individually identifiable, so the run may stop once every pair above
+	// the edge has converged and the captured variance (the sum of the
+	// wanted Ritz values) changed by less than VarTol in the last pass.
+	// Pairs stopped that way are reported as not converged.
+	BulkEdge float64
+	VarTol   float64 // default 1e-5
+	// Pass, when set, is called after each pass with the pass number and
+	// the largest relative residual of the wanted pairs so far (NaN before
+	// the first Rayleigh-Ritz step).
+	Pass func(pass int, maxRel float64)
+	// Checkpoint, when set, is called after each pass with the solver state,
+	// so a run can resume from the last completed pass (see Resume).
+	Checkpoint func(*State) error
+	// Resume, when set, continues from a checkpointed state.
+	Resume *State
+}
+
+// Result holds the top-K eigenpairs of K.
+type Result struct {
+	Eigenvalues []float64   // descending
+	Vectors     *mat.Dense  // N x K, unit columns (sample scores)
+	Residuals   []float64   // ||K u - lambda u||_2 per pair
+	Converged   []bool      // residual <= Tol * lambda
+	Passes      int         // applications of the operator
+	History     [][]float64 // relative residuals of the wanted pairs after each RR step
+	TraceSqEst  float64     // Hutchinson estimate of trace(K^2) from the first pass
+	BlockSize   int         // l = K + oversampling
+	StopReason  string      // "converged", "bulk-variance-stable" or "max-passes"
+}
+
+// State is the solver's state after a completed pass: enough to continue
+// bit-identically. U and AU are N x l row-major.
+type State struct {
+	Pass       int
+	L          int
+	N          int
+	U, AU      []float64
+	Theta      []float64
+	TraceSqEst float64
+	History    [][]float64
+}
+
+// Solve computes the top-K eigenpairs of a by a restarted block Krylov
+// method: randomized start (Halko, Martinsson & Tropp 2011, SIAM Rev
+// 53:217), then at each pass the current l Ritz vectors U are extended by
+// one Krylov block (the residual block R = KU - U Theta, orthonormalized
+// against U) and Rayleigh-Ritz on span[U, R] keeps the best l pairs. One
+// pass is one application of K to l vectors; the space grows like a block
+// Krylov space (Musco & Musco 2015, NeurIPS) with a thick restart that keeps
+// memory at a fixed number of N x l blocks. The stop is residual based:
+// every wanted pair has ||K u - lambda u|| <= Tol * lambda, or MaxPasses.
+// The first pass applies K to a Gaussian block, which also gives the
+// Hutchinson (1989) estimate of trace(K^2) = E||K w||^2.
+func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
+	n := a.Dim()
+	if opt.K < 1 {
+		return nil, fmt.Errorf("solve: k = %d, want >= 1", opt.K)
+	}
+	if opt.Oversample <= 0 {
+		opt.Oversample = max(10, opt.K/2)
+	}
+	l := min(opt.K+opt.Oversample, n)
+	if opt.K > n {
+		return nil, fmt.Errorf("solve: k = %d exceeds the %d samples", opt.K, n)
+	}
+	if opt.Tol <= 0 {
+		opt.Tol = 1e-6
+	}
+	if opt.MaxPasses <= 0 {
+		opt.MaxPasses = 30
+	}
+	if opt.VarTol <= 0 {
+		opt.VarTol = 1e-5
+	}
+	if opt.MaxPasses < 2 {
+		opt.MaxPasses = 2
+	}
+	var st *State
+	if opt.Resume != nil {
+		st = opt.Resume
+		if st.N != n || st.L != l || len(st.U) != n*l || len(st.AU) != n*l || len(st.Theta) != l {
+			return nil, errors.New("solve: checkpoint does not match this problem (samples or block size differ)")
+		}
+	} else {
+		// Pass 1: Gaussian start.
+		rng := rand.New(rand.NewPCG(opt.Seed, 0x636c696e616c)) // "clinal"
+		omega := make([]float64, n*l)
+		for i := range omega {
+			omega[i] = rng.NormFloat64()
+		}
+		y := make([]float64, n*l)
+		if err := a.Apply(ctx, omega, y, l); err != nil {
+			return nil, err
+		}
+		var ss float64
+		for _, v := range y {
+			ss += v * v
+		}
+		// Q0 = Omega R^-1 and K Q0 = Y R^-1 (Omega is well conditioned).
+		q := mat.NewDense(n, l, omega)
+		aq := mat.NewDense(n, l, y)
+		if err := orthonormalizeWith(q, aq, nil); err != nil {
+			return nil, fmt.Errorf("solve: start block: %w", err)
+		}
+		u, au, theta := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l)
+		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l)}
+		st.History = append(st.History, relResiduals(u, au, theta, opt.K))
+		if opt.Pass != nil {
+			opt.Pass(1, maxOf(st.History[0]))
+		}
+		if opt.Checkpoint != nil {
+			if err := opt.Checkpoint(st); err != nil {
+				return nil, err
+			}
+		}
+	}
+	u := mat.NewDense(n, l, st.U)
+	au := mat.NewDense(n, l, st.AU)
+	theta := st.Theta
+	reason := "max-passes"
+	prevVar := math.NaN()
+	if len(st.History) > 1 && opt.Resume != nil {
+		prevVar = math.NaN() // the variance test needs two passes seen in this run
+	}
+	for {
+		rel := relResiduals(u, au, theta, opt.K)
+		if allBelow(rel, opt.Tol) {
+			reason = "converged"
+			break
+		}
+		captured := sum(theta[:opt.K])
+		if opt.BulkEdge > 0 && !math.IsNaN(prevVar) && math.Abs(captured-prevVar) <= opt.VarTol*captured {
+			ok := true
+			for j := 0; j < opt.K; j++ {
+				if theta[j] > opt.BulkEdge && !(rel[j] <= opt.Tol) {
+					ok = false
+				}
+			}
+			if ok {
+				reason = "bulk-variance-stable"
+				break
+			}
+		}
+		prevVar = captured
+		if st.Pass >= opt.MaxPasses {
+			break
+		}
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		// Residual block, orthonormalized against U.
+		r := mat.NewDense(n, l, nil)
+		for i := 0; i < n; i++ {
+			ur, ar, rr := u.RawRowView(i), au.RawRowView(i), r.RawRowView(i)
+			for j := range rr {
+				rr[j] = ar[j] - theta[j]*ur[j]
+			}
+		}
+		refill := rand.New(rand.NewPCG(opt.Seed, uint64(st.Pass)+1))
+		if err := orthonormalizeWith(r, nil, &orthOpts{against: u, refill: refill}); err != nil {
+			return nil, fmt.Errorf("solve: pass %d: %w", st.Pass+1, err)
+		}
+		ar := make([]float64, n*l)
+		if err := a.Apply(ctx, r.RawMatrix().Data, ar, l); err != nil {
+			return nil, err
+		}
+		arm := mat.NewDense(n, l, ar)
+		u, au, theta = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l)
+		st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K))}
+		if opt.Pass != nil {
+			opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
+		}
+		if opt.Checkpoint != nil {
+			if err := opt.Checkpoint(st); err != nil {
+				return nil, err
+			}
+		}
+	}
+	res := finish(u, au, theta, st, opt)
+	res.StopReason = reason
+	return res, nil
+}
+
+func sum(v []float64) float64 {
+	var s float64
+	for _, x := range v {
+		s += x
+	}
+	return s
+}
+
+func finish(u, au *mat.Dense, theta []float64, st *State, opt SolveOptions) *Result {
+	n, k := u.RawMatrix().Rows, opt.K
+	res := &Result{Eigenvalues: make([]float64, k), Vectors: mat.NewDense(n, k, nil),
+		Residuals: make([]float64, k), Converged: make([]bool, k), Passes: st.Pass,
+		History: st.History, TraceSqEst: st.TraceSqEst, BlockSize: st.L}
+	for j := 0; j < k; j++ {
+		res.Eigenvalues[j] = theta[j]
+		var rs float64
+		imax, vmax := 0, -1.0
+		for i := 0; i < n; i++ {
+			d := au.At(i, j) - theta[j]*u.At(i, j)
+			rs += d * d
+			if a := math.Abs(u.At(i, j)); a > vmax {
+				imax, vmax = i, a
+			}
+		}
+		res.Residuals[j] = math.Sqrt(rs)
+		res.Converged[j] = res.Residuals[j] <= opt.Tol*math.Abs(theta[j])
+		// Sign convention: the entry of largest magnitude is positive.
+		sign := 1.0
+		if u.At(imax, j) < 0 {
+			sign = -1
+		}
+		for i := 0; i < n; i++ {
+			res.Vectors.Set(i, j, sign*u.At(i, j))
+		}
+	}
+	return res
+}
+
+func relResiduals(u, au *mat.Dense, theta []float64, k int) []float64 {
+	n, _ := u.Dims()
+	out := make([]float64, k)
+	for j := 0; j < k; j++ {
+		var rs float64
+		for i := 0; i < n; i++ {
+			d := au.At(i, j) - theta[j]*u.At(i, j)
+			rs += d * d
+		}
+		out[j] = math.Sqrt(rs) / math.Max(math.Abs(theta[j]), 1e-300)
+	}
+	return out
+}
+
+func allBelow(v []float64, tol float64) bool {
+	for _, x := range v {
+		if !(x <= tol) {
+			return false
+		}
+	}
+	return true
+}
+
+func maxOf(v []float64) float64 {
+	m := 0.0
+	for _, x := range v {
+		m = math.Max(m, x)
+	}
+	return m
+}
+
+// rayleighRitz takes an orthonormal basis split in blocks B = [B1 B2 ...]
+// with their images KB, forms H = B^T K B (symmetrized), and returns the
+// top l Ritz vectors U = B V, their images KU = KB V and Ritz values.
+func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64) {
+	n, _ := b[0].Dims()
+	widths := make([]int, len(b))
+	tot := 0
+	for i, m := range b {
+		_, c := m.Dims()
+		widths[i] = c
+		tot += c
+	}
+	h := mat.NewSymDense(tot, nil)
+	full := mat.NewDense(tot, tot, nil)
+	ro := 0
+	for i := range b {
+		co := 0
+		for j := range kb {
+			var blk mat.Dense
+			blk.Mul(b[i].T(), kb[j])
+			for r := 0; r < widths[i]; r++ {
+				for c := 0; c < widths[j]; c++ {
+					full.Set(ro+r, co+c, blk.At(r, c))
+				}
+			}
+			co += widths[j]
+		}
+		ro += widths[i]
+	}
+	for r := 0; r < tot; r++ {
+		for c := r; c < tot; c++ {
+			h.SetSym(r, c, 0.5*(full.At(r, c)+full.At(c, r)))
+		}
+	}
+	var es mat.EigenSym
+	if !es.Factorize(h, true) {
+		panic("randsvd: symmetric eigendecomposition failed") // only on NaN input
+	}
+	vals := es.Values(nil)
+	var vecs mat.Dense
+	es.VectorsTo(&vecs)
+	order := make([]int, tot)
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(x, y int) bool { return vals[order[x]] > vals[order[y]] })
+	l = min(l, tot)
+	v := mat.NewDense(tot, l, nil)
+	theta = make([]float64, l)
+	for j := 0; j < l; j++ {
+		theta[j] = vals[order[j]]
+		for r := 0; r < tot; r++ {
+			v.Set(r, j, vecs.At(r, order[j]))
+		}
+	}
+	u = mat.NewDense(n, l, nil)
+	ku = mat.NewDense(n, l, nil)
+	ro = 0
+	for i := range b {
+		vi := v.Slice(ro, ro+widths[i], 0, l)
+		var t mat.Dense
+		t.Mul(b[i], vi)
+		u.Add(u, &t)
+		t.Mul(kb[i], vi)
+		ku.Add(ku, &t)
+		ro += widths[i]
+	}
+	return u, ku, theta
+}
+
+type orthOpts struct {
+	against *mat.Dense // orthogonalize against these orthonormal columns too
+	refill  *rand.Rand // replaces columns that vanish (rank deficiency)
+}
+
+// orthonormalizeWith orthonormalizes the columns of q in place by modified
+// Gram-Schmidt with one reorthogonalization (Giraud et al. 2005: "twice is
+// enough"), against o.against first when given. When aq (the image K q) is
+// given, the same column operations are applied to it, so it stays K q.
+func orthonormalizeWith(q, aq *mat.Dense, o *orthOpts) error {
+	n, l := q.Dims()
+	cols := make([][]float64, l)
+	for j := range cols {
+		cols[j] = mat.Col(nil, j, q)
+	}
+	var acols [][]float64
+	if aq != nil {
+		acols = make([][]float64, l)
+		for j := range acols {
+			acols[j] = mat.Col(nil, j, aq)
+		}
+	}
+	var prev [][]float64
+	if o != nil && o.against != nil {
+		_, c := o.against.Dims()
+		for j := 0; j < c; j++ {
+			prev = append(prev, mat.Col(nil, j, o.against))
+		}
+	}
+	for j := 0; j < l; j++ {
+		v := cols[j]
+		norm0 := math.Sqrt(dot(v, v))
+		for attempt := 0; ; attempt++ {
+			for pass := 0; pass < 2; pass++ {
+				for _, p := range prev {
+					c := dot(p, v)
+					axpy(-c, p, v)
+				}
+				for i := 0; i < j; i++ {
+					c := dot(cols[i], v)
+					axpy(-c, cols[i], v)
+					if acols != nil {
+						axpy(-c, acols[i], acols[j])
+					}
+				}
+			}
+			nv := math.Sqrt(dot(v, v))
+			if nv > 1e-10*norm0 && nv > 1e-300 {
+				scale(1/nv, v)
+				if acols != nil {
+					scale(1/nv, acols[j])
+				}
+				break
+			}
+			if acols != nil {
+				return errors.New("start block is rank deficient")
+			}
+			if o == nil || o.refill == nil || attempt > 3 {
+				return errors.New("block became rank deficient")
+			}
+			for i := range v {
+				v[i] = o.refill.NormFloat64()
+			}
+			norm0 = math.Sqrt(dot(v, v))
+		}
+	}
+	for j := 0; j < l; j++ {
+		for i := 0; i < n; i++ {
+			q.Set(i, j, cols[j][i])
+			if aq != nil {
+				aq.Set(i, j, acols[j][i])
+			}
+		}
+	}
+	return nil
+}
+
+func dot(a, b []float64) float64 {
+	b = b[:len(a)]
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(a); i += 4 {
+		s0 += a[i] * b[i]
+		s1 += a[i+1] * b[i+1]
+		s2 += a[i+2] * b[i+2]
+		s3 += a[i+3] * b[i+3]
+	}
+	for ; i < len(a); i++ {
+		s0 += a[i] * b[i]
+	}
+	return (s0 + s1) + (s2 + s3)
+}
+
+func axpy(c float64, x, y []float64) {
+	x = x[:len(y)]
+	for i := range y {
+		y[i] += c * x[i]
+	}
+}
+
+func scale(c float64, x []float64) {
+	for i := range x {
+		x[i] *= c
+	}
+}
