@@ -61,7 +61,6 @@ func writeTestStore(t *testing.T, dir string, n, m int) string {
 	return path
 }
 
-
 func runCmd(t *testing.T, args ...string) (int, string, string) {
 	t.Helper()
 	var out, errb bytes.Buffer
