@@ -37,6 +37,7 @@ import (
 	"fmt"
 	"math"
 	"sync"
+	"sync/atomic"
 
 	"github.com/clinal/clinal/matrixio"
 )
@@ -77,7 +78,6 @@ type Operator struct {
 	center  []float64
 	scale   []float64
 	tab     [][4]float64 // geno2: standardized value per code (missing 0)
-	base    []uint8      // geno2: most frequent code per marker
 	chunks  []int
 	// chunkSel[c] lists offsets within chunk c of kept markers and their
 	// kept-marker ordinal.
@@ -204,7 +204,6 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 				t[g] = (float64(g) - mu) / sd
 			}
 			op.tab = append(op.tab, t)
-			op.base = append(op.base, baseCode(c))
 			// Exact trace contribution from counts: sum_c n_c t_c^2.
 			op.trace += float64(c.HomRef)*t[0]*t[0] + float64(c.Het)*t[1]*t[1] + float64(c.HomAlt)*t[2]*t[2]
 		}
@@ -222,23 +221,6 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		op.trace = math.NaN() // computed during the first pass
 	}
 	return op, nil
-}
-
-// baseCode is the most frequent code of a marker: its class sum is derived
-// from the total instead of being accumulated, so the common genotype costs
-// nothing.
-func baseCode(c matrixio.Counts) uint8 {
-	b, best := uint8(0), c.HomRef
-	if c.Het > best {
-		b, best = 1, c.Het
-	}
-	if c.HomAlt > best {
-		b, best = 2, c.HomAlt
-	}
-	if c.Missing > best {
-		b = 3
-	}
-	return b
 }
 
 // Dim returns the number of kept samples (the order of K).
@@ -268,54 +250,51 @@ func (op *Operator) Trace() float64 { return op.trace / float64(op.mTotal) }
 // Chunks returns the chunks one application streams.
 func (op *Operator) Chunks() int { return len(op.chunks) }
 
-// workspace holds per-pass buffers, reused across chunks.
+// workspace holds per-pass buffers, reused across chunks. Rows of l values
+// are stored with a padded stride lp (a multiple of 4) so kernels can work
+// in whole vectors.
 type workspace struct {
-	l      int
-	x      []float64 // store-sample rows of X (zero for dropped samples)
-	y      []float64 // store-sample rows of Y
-	tot    []float64 // column sums of x
-	w      []float64 // b x l
-	d      []float64 // b x 4 x l coefficients of the second product
-	z      []float64 // float stores: b x N standardized block
-	btot   []float64 // sum over markers of t_base * W_j
-	acc    [][]float64
-	trace  []float64 // float stores: per-marker sum of squares
-	traceS float64
+	l, lp int
+	x     []float64 // store-sample rows of X (zero for dropped samples), stride lp
+	y     []float64 // store-sample rows of Y, stride lp
+	tot   []float64 // column sums of x
+	btot  []float64 // constant part of Y: -sum_j mu_j W''_j
+	w     []float64 // b x lp: W = Z_b X
+	wpp   []float64 // b x lp: W''_j = W_j / sd_j
+	part  []float64 // segments x b x lp partial first products
+	miss  [][]int32 // per block marker: samples with a missing call
+	z     []float64 // float stores: b x N standardized block
+	trace []float64 // float stores: per-marker sum of squares
+	tabs  [][]float64
+}
+
+func (op *Operator) newWorkspace(x []float64, l int, second bool) *workspace {
+	lp := (l + 3) &^ 3
+	ws := &workspace{l: l, lp: lp, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
+	if second {
+		ws.y = make([]float64, op.n*lp)
+	}
+	for r, i := range op.kept {
+		copy(ws.x[i*lp:i*lp+l], x[r*l:(r+1)*l])
+		for k, v := range x[r*l : (r+1)*l] {
+			ws.tot[k] += v
+		}
+	}
+	ws.tabs = make([][]float64, op.threads)
+	for t := range ws.tabs {
+		ws.tabs[t] = make([]float64, 4*256*lp)
+	}
+	return ws
 }
 
 // Apply computes Y = K X for X with Dim() rows and l columns (row-major,
 // len Dim()*l), in one pass over the chunks. Y must have the same shape.
 func (op *Operator) Apply(ctx context.Context, x, y []float64, l int) error {
-	return op.apply(ctx, x, y, l, true)
-}
-
-// ApplyPartial computes Y = Z_s^T Z_s X / M for the chunks of this operator
-// only (its shard), with the same scaling as the whole selection, so the
-// partials of disjoint shards sum to K X.
-func (op *Operator) ApplyPartial(ctx context.Context, x, y []float64, l int) error {
-	return op.apply(ctx, x, y, l, false)
-}
-
-func (op *Operator) apply(ctx context.Context, x, y []float64, l int, _ bool) error {
 	nk := len(op.kept)
 	if l < 1 || len(x) != nk*l || len(y) != nk*l {
 		return fmt.Errorf("operator: shapes x %d, y %d for %d x %d", len(x), len(y), nk, l)
 	}
-	ws := &workspace{l: l, x: make([]float64, op.n*l), y: make([]float64, op.n*l),
-		tot: make([]float64, l), btot: make([]float64, l)}
-	ws.acc = make([][]float64, op.threads)
-	for t := range ws.acc {
-		ws.acc[t] = make([]float64, 4*l)
-	}
-	for r, i := range op.kept {
-		copy(ws.x[i*l:(i+1)*l], x[r*l:(r+1)*l])
-	}
-	for r := 0; r < nk; r++ {
-		row := x[r*l : (r+1)*l]
-		for k, v := range row {
-			ws.tot[k] += v
-		}
-	}
+	ws := op.newWorkspace(x, l, true)
 	done := 0
 	err := op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
 		if err := ctx.Err(); err != nil {
@@ -346,9 +325,10 @@ func (op *Operator) apply(ctx context.Context, x, y []float64, l int, _ bool) er
 		op.trace = t
 	}
 	inv := 1 / float64(op.mTotal)
+	lp := ws.lp
 	for r, i := range op.kept {
 		yr := y[r*l : (r+1)*l]
-		src := ws.y[i*l : (i+1)*l]
+		src := ws.y[i*lp : i*lp+l]
 		for k := range yr {
 			yr[k] = (src[k] + ws.btot[k]) * inv
 		}
@@ -356,15 +336,35 @@ func (op *Operator) apply(ctx context.Context, x, y []float64, l int, _ bool) er
 	return nil
 }
 
-// split returns the [a,b) range of part t of n items in p parts, aligned
-// to multiples of align.
-func split(n, p, t, align int) (int, int) {
-	units := (n + align - 1) / align
-	a := t * units / p * align
-	b := (t + 1) * units / p * align
-	return min(a, n), min(b, n)
+// MarkerProducts streams W = Z X (one row of l values per kept marker, in
+// KeptMarkers order) to fn: half a pass, used for marker loadings. X has
+// Dim() rows and l columns, row-major. The slice passed to fn is reused.
+func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn func(ord int, w []float64) error) error {
+	nk := len(op.kept)
+	if l < 1 || len(x) != nk*l {
+		return fmt.Errorf("operator: shape x %d for %d x %d", len(x), nk, l)
+	}
+	ws := op.newWorkspace(x, l, false)
+	return op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		sels := op.chunkSel[c.Index]
+		if op.float {
+			op.floatFirst(ws, c, sels)
+		} else {
+			op.genoFirst(ws, c, sels)
+		}
+		for q, s := range sels {
+			if err := fn(s.ord, ws.w[q*ws.lp:q*ws.lp+l]); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
 }
 
+// parallel runs fn(t) for t in [0, threads) and waits.
 func (op *Operator) parallel(fn func(t int)) {
 	if op.threads == 1 {
 		fn(0)
@@ -381,6 +381,28 @@ func (op *Operator) parallel(fn func(t int)) {
 	wg.Wait()
 }
 
+// forEach runs fn(item, worker) for item in [0, n) on the operator's
+// threads, handing out items dynamically. Callers make each item's result
+// independent of the worker, so scheduling never changes a number.
+func (op *Operator) forEach(n int, fn func(item, worker int)) {
+	if op.threads == 1 || n == 1 {
+		for i := 0; i < n; i++ {
+			fn(i, 0)
+		}
+		return
+	}
+	var next atomic.Int64
+	op.parallel(func(t int) {
+		for {
+			i := int(next.Add(1) - 1)
+			if i >= n {
+				return
+			}
+			fn(i, t)
+		}
+	})
+}
+
 func grow(b []float64, n int) []float64 {
 	if cap(b) < n {
 		return make([]float64, n)
@@ -388,163 +410,25 @@ func grow(b []float64, n int) []float64 {
 	return b[:n]
 }
 
-// genoChunk applies one chunk of 2-bit calls. For marker j with base code b
-// and values t_c, W_j = t_b * T + sum_{c != b} (t_c - t_b) S_c, where T is
-// the column sum of X and S_c the sum of the rows of X whose call is c; so
-// only the samples that do not carry the base genotype are touched. The
-// second product is Y_i += t_b W_j (accumulated once, in btot) plus
-// (t_c - t_b) W_j for the samples whose call c differs from b.
-func (op *Operator) genoChunk(ws *workspace, c *matrixio.Chunk) {
-	sels := op.chunkSel[c.Index]
-	l := ws.l
-	nb := len(sels)
-	ws.d = grow(ws.d, nb*4*l)
-	rb := op.st.RowBytes()
-	n := op.n
-	op.genoFirst(ws, c, sels)
-	// Coefficients for the second product, in marker order.
-	for q := 0; q < nb; q++ {
-		s := sels[q]
-		base := op.base[s.ord]
-		tb := op.tab[s.ord][base]
-		w := ws.w[q*l : (q+1)*l]
-		for k := range w {
-			ws.btot[k] += tb * w[k]
-		}
-		d := ws.d[q*4*l : (q+1)*4*l]
-		for cl := 0; cl < 4; cl++ {
-			dc := d[cl*l : (cl+1)*l]
-			f := op.tab[s.ord][cl] - tb
-			if uint8(cl) == base {
-				f = 0
-			}
-			for k := range dc {
-				dc[k] = f * w[k]
-			}
-		}
-	}
-	// Second product: over samples, byte-aligned ranges.
-	op.parallel(func(t int) {
-		a, b := split(n, op.threads, t, 4)
-		if a >= b {
-			return
-		}
-		for q := 0; q < nb; q++ {
-			s := sels[q]
-			row := c.Raw[s.off*rb : (s.off+1)*rb]
-			scatter(row, a, b, op.base[s.ord], ws.d[q*4*l:(q+1)*4*l], ws.y, l)
-		}
-	})
-}
-
-// genoFirst computes W = Z_b X for the kept markers of a 2-bit chunk into
-// ws.w (one row per entry of sels), split over markers.
-func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
-	l, nb, n := ws.l, len(sels), op.n
-	rb := op.st.RowBytes()
-	ws.w = grow(ws.w, nb*l)
-	op.parallel(func(t int) {
-		a, b := split(nb, op.threads, t, 1)
-		acc := ws.acc[t]
-		for q := a; q < b; q++ {
-			s := sels[q]
-			row := c.Raw[s.off*rb : (s.off+1)*rb]
-			base := op.base[s.ord]
-			clear(acc)
-			classSums(row, n, base, ws.x, acc, l)
-			tb := op.tab[s.ord][base]
-			w := ws.w[q*l : (q+1)*l]
-			for k := range w {
-				w[k] = tb * ws.tot[k]
-			}
-			for cl := uint8(0); cl < 4; cl++ {
-				if cl == base {
-					continue
-				}
-				f := op.tab[s.ord][cl] - tb
-				ac := acc[int(cl)*l : int(cl+1)*l]
-				for k := range w {
-					w[k] += f * ac[k]
-				}
-			}
-		}
-	})
-}
-
-// classSums adds, for every sample i whose code differs from base, row i of
-// x into acc[code].
-func classSums(row []byte, n int, base uint8, x, acc []float64, l int) {
-	rep := base * 0x55
-	for bi, by := range row {
-		if by == rep {
-			continue
-		}
-		i0 := bi * 4
-		for s := 0; s < 4; s++ {
-			code := (by >> (2 * uint(s))) & 3
-			i := i0 + s
-			if code == base || i >= n {
-				continue
-			}
-			addTo(acc[int(code)*l:int(code+1)*l], x[i*l:(i+1)*l])
-		}
-	}
-}
-
-// scatter adds d[code] to row i of y for samples i in [a,b) whose code
-// differs from base (a is a multiple of 4).
-func scatter(row []byte, a, b int, base uint8, d, y []float64, l int) {
-	rep := base * 0x55
-	for bi := a >> 2; bi < (b+3)>>2; bi++ {
-		by := row[bi]
-		if by == rep {
-			continue
-		}
-		i0 := bi * 4
-		for s := 0; s < 4; s++ {
-			code := (by >> (2 * uint(s))) & 3
-			i := i0 + s
-			if code == base || i >= b {
-				continue
-			}
-			addTo(y[i*l:(i+1)*l], d[int(code)*l:int(code+1)*l])
-		}
-	}
-}
-
-// addTo computes dst += src.
-func addTo(dst, src []float64) {
-	src = src[:len(dst)]
-	k := 0
-	for ; k+4 <= len(dst); k += 4 {
-		dst[k] += src[k]
-		dst[k+1] += src[k+1]
-		dst[k+2] += src[k+2]
-		dst[k+3] += src[k+3]
-	}
-	for ; k < len(dst); k++ {
-		dst[k] += src[k]
-	}
-}
-
 // floatChunk applies one chunk of float values with dense products.
 func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
 	sels := op.chunkSel[c.Index]
-	l, n := ws.l, op.n
+	l, lp, n := ws.l, ws.lp, op.n
 	nb := len(sels)
 	tr := op.floatFirst(ws, c, sels)
 	ws.trace = append(ws.trace, tr...)
-	op.parallel(func(t int) {
-		a, b := split(n, op.threads, t, 1)
+	segs := segments(n, 1)
+	op.forEach(len(segs)-1, func(sg, _ int) {
+		a, b := segs[sg], segs[sg+1]
 		for q := 0; q < nb; q++ {
 			z := ws.z[q*n : (q+1)*n]
-			w := ws.w[q*l : (q+1)*l]
+			w := ws.w[q*lp : q*lp+l]
 			for i := a; i < b; i++ {
 				zi := z[i]
 				if zi == 0 {
 					continue
 				}
-				yi := ws.y[i*l : (i+1)*l]
+				yi := ws.y[i*lp : i*lp+l]
 				for k := range yi {
 					yi[k] += zi * w[k]
 				}
@@ -553,79 +437,38 @@ func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
 	})
 }
 
-// MarkerProducts streams W = Z X (one row of l values per kept marker, in
-// KeptMarkers order) to fn: half a pass, used for marker loadings. X has
-// Dim() rows and l columns, row-major. The slice passed to fn is reused.
-func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn func(ord int, w []float64) error) error {
-	nk := len(op.kept)
-	if l < 1 || len(x) != nk*l {
-		return fmt.Errorf("operator: shape x %d for %d x %d", len(x), nk, l)
-	}
-	ws := &workspace{l: l, x: make([]float64, op.n*l), tot: make([]float64, l)}
-	ws.acc = make([][]float64, op.threads)
-	for t := range ws.acc {
-		ws.acc[t] = make([]float64, 4*l)
-	}
-	for r, i := range op.kept {
-		copy(ws.x[i*l:(i+1)*l], x[r*l:(r+1)*l])
-		for k, v := range x[r*l : (r+1)*l] {
-			ws.tot[k] += v
-		}
-	}
-	return op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
-		if err := ctx.Err(); err != nil {
-			return err
-		}
-		sels := op.chunkSel[c.Index]
-		if op.float {
-			ws.y = grow(ws.y, op.n*l) // unused second product target
-			op.floatFirst(ws, c, sels)
-		} else {
-			op.genoFirst(ws, c, sels)
-		}
-		for q, s := range sels {
-			if err := fn(s.ord, ws.w[q*l:(q+1)*l]); err != nil {
-				return err
-			}
-		}
-		return nil
-	})
-}
-
 // floatFirst decodes and standardizes a float chunk into ws.z and computes
 // W = Z_b X into ws.w; it returns each marker's sum of squares.
 func (op *Operator) floatFirst(ws *workspace, c *matrixio.Chunk, sels []sel) []float64 {
-	l, n, nb := ws.l, op.n, len(sels)
+	l, lp, n, nb := ws.l, ws.lp, op.n, len(sels)
 	rb := op.st.RowBytes()
-	ws.w = grow(ws.w, nb*l)
+	ws.w = grow(ws.w, nb*lp)
 	ws.z = grow(ws.z, nb*n)
 	tr := make([]float64, nb)
-	op.parallel(func(t int) {
-		a, b := split(nb, op.threads, t, 1)
-		vals := make([]float32, n)
-		for q := a; q < b; q++ {
-			s := sels[q]
-			matrixio.DecodeFloats(c.Raw[s.off*rb:(s.off+1)*rb], vals)
-			z := ws.z[q*n : (q+1)*n]
-			mu, inv := op.center[s.ord], op.scale[s.ord]
-			w := ws.w[q*l : (q+1)*l]
-			clear(w)
-			var ss float64
-			for i, v := range vals {
-				if v != v || !op.isKept[i] {
-					z[i] = 0
-					continue
-				}
-				zi := (float64(v) - mu) * inv
-				z[i] = zi
-				ss += zi * zi
-				xi := ws.x[i*l : (i+1)*l]
-				for k := range w {
-					w[k] += zi * xi[k]
-				}
+	op.forEach(nb, func(q, _ int) {
+		s := sels[q]
+		row := c.Raw[s.off*rb : (s.off+1)*rb]
+		z := ws.z[q*n : (q+1)*n]
+		mu, inv := op.center[s.ord], op.scale[s.ord]
+		w := ws.w[q*lp : q*lp+lp]
+		clear(w)
+		w = w[:l]
+		var ss float64
+		for i := 0; i < n; i++ {
+			v := math.Float32frombits(uint32(row[4*i]) | uint32(row[4*i+1])<<8 | uint32(row[4*i+2])<<16 | uint32(row[4*i+3])<<24)
+			if v != v || !op.isKept[i] {
+				z[i] = 0
+				continue
 			}
-			tr[q] = ss
+			zi := (float64(v) - mu) * inv
+			z[i] = zi
+			ss += zi * zi
+			xi := ws.x[i*lp : i*lp+l]
+			for k := range w {
+				w[k] += zi * xi[k]
+			}
 		}
+		tr[q] = ss
 	})
 	return tr
 }

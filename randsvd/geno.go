@@ -1,0 +1,309 @@
+package randsvd
+
+import (
+	"github.com/clinal/clinal/matrixio"
+)
+
+// The 2-bit kernels work on groups of four samples, one packed byte of a
+// marker's row. With val(c) = c for calls 0, 1, 2 and val(missing) = 0, a
+// marker's standardized row is z = (val(g) - mu) / sd off the missing
+// calls, so
+//
+//	W_j = Z_j X = (G_j X - mu_j (T - S_j)) / sd_j
+//
+// where G_j X = sum_i val(g_ij) X_i, T the column sums of X and S_j the sum
+// of X over the samples missing at marker j. For one group of four samples
+// all 256 byte values of G X are tabulated once per chunk (256 rows of l),
+// and then every marker costs one table row added per byte, four samples at
+// a time, with no branch on the genotype: the table lookup over packed bytes
+// of Liberty & Zucker 2009 (the Mailman algorithm). The second product runs
+// the same idea backwards: for a group, W''_j = W_j / sd_j is added into the
+// bucket of marker j's byte, and each of the four samples then takes the
+// buckets whose code for it is 1 once and those whose code is 2 twice.
+//
+// Samples are cut into fixed segments of segSamples (independent of the
+// thread count); first-product partials are summed over segments in order,
+// so the result never depends on scheduling.
+
+const segSamples = 512
+
+// segments returns boundaries of fixed sample segments: 0, 512, 1024, ..., n.
+func segments(n, _ int) []int {
+	var b []int
+	for a := 0; a < n; a += segSamples {
+		b = append(b, a)
+	}
+	return append(b, n)
+}
+
+// marginal[s][c-1] lists the 64 byte values whose code at position s is c
+// (c = 1, 2).
+var marginal = func() (m [4][2][64]uint8) {
+	var k [4][2]int
+	for v := 0; v < 256; v++ {
+		for s := 0; s < 4; s++ {
+			c := (v >> (2 * s)) & 3
+			if c == 1 || c == 2 {
+				m[s][c-1][k[s][c-1]] = uint8(v)
+				k[s][c-1]++
+			}
+		}
+	}
+	return m
+}()
+
+// buildTable fills tab (256 rows of lp) with sum_s val(code_s(v)) x_{4g+s}
+// for every byte value v; rows of samples beyond n count as zero.
+func buildTable(tab, x []float64, g, n, lp int) {
+	clear(tab[:4*lp])
+	i0 := 4 * g
+	if i0 < n {
+		x0 := x[i0*lp : i0*lp+lp]
+		copy(tab[lp:2*lp], x0)
+		t2 := tab[2*lp : 3*lp]
+		for k, v := range x0 {
+			t2[k] = 2 * v
+		}
+	}
+	span := 4
+	for s := 1; s < 4; s++ {
+		i := i0 + s
+		// Entries with code 0 (and missing, code 3) at position s copy the
+		// lower table; code 1 adds x_i, code 2 adds 2 x_i.
+		copy(tab[span*lp:2*span*lp], tab[:span*lp])
+		copy(tab[3*span*lp:4*span*lp], tab[:span*lp])
+		if i < n {
+			xi := x[i*lp : i*lp+lp]
+			addRowsScaled(tab[span*lp:2*span*lp], tab[:span*lp], xi, 1, span, lp)
+			addRowsScaled(tab[2*span*lp:3*span*lp], tab[:span*lp], xi, 2, span, lp)
+		} else {
+			copy(tab[2*span*lp:3*span*lp], tab[:span*lp])
+		}
+		span *= 4
+	}
+}
+
+// addRowsScaled sets dst[r] = src[r] + f*x for r < rows.
+func addRowsScaled(dst, src, x []float64, f float64, rows, lp int) {
+	for r := 0; r < rows; r++ {
+		d := dst[r*lp : r*lp+lp]
+		s := src[r*lp : r*lp+lp]
+		x := x[:lp]
+		for k := range d {
+			d[k] = s[k] + f*x[k]
+		}
+	}
+}
+
+// rowOffsets returns the byte offset of each selected marker's row.
+func rowOffsets(sels []sel, rb int, buf []int32) []int32 {
+	buf = buf[:0]
+	for _, s := range sels {
+		buf = append(buf, int32(s.off*rb))
+	}
+	return buf
+}
+
+// findMissing lists the samples with a missing call in a packed row.
+func findMissing(row []byte, n int, dst []int32) []int32 {
+	dst = dst[:0]
+	for bi, by := range row {
+		if m := by & (by >> 1) & 0x55; m != 0 {
+			for s := 0; s < 4; s++ {
+				if m&(1<<(2*s)) != 0 && 4*bi+s < n {
+					dst = append(dst, int32(4*bi+s))
+				}
+			}
+		}
+	}
+	return dst
+}
+
+// genoFirst computes W = Z_b X for the kept markers of a 2-bit chunk into
+// ws.w (row q for sels[q]), and the missing lists ws.miss.
+func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
+	lp, n, nb := ws.lp, op.n, len(sels)
+	rb := op.st.RowBytes()
+	offs := rowOffsets(sels, rb, make([]int32, 0, nb))
+	segs := segments(n, 4)
+	nseg := len(segs) - 1
+	ws.part = grow(ws.part, nseg*nb*lp)
+	ws.w = grow(ws.w, nb*lp)
+	for len(ws.miss) < nb {
+		ws.miss = append(ws.miss, nil)
+	}
+	op.forEach(nseg, func(sg, t int) {
+		part := ws.part[sg*nb*lp : (sg+1)*nb*lp]
+		clear(part)
+		tab := ws.tabs[t]
+		g, end := segs[sg]/4, (segs[sg+1]+3)/4
+		for ; g+4 <= end; g += 4 {
+			for u := 0; u < 4; u++ {
+				buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, g+u, n, lp)
+			}
+			gatherAdd4(part, tab, c.Raw, offs, g, lp)
+		}
+		for ; g < end; g++ {
+			buildTable(tab, ws.x, g, n, lp)
+			gatherAdd(part, tab, c.Raw, offs, g, lp)
+		}
+	})
+	op.forEach(nb, func(q, _ int) {
+		s := sels[q]
+		ws.miss[q] = findMissing(c.Raw[s.off*rb:(s.off+1)*rb], n, ws.miss[q])
+		w := ws.w[q*lp : q*lp+lp]
+		copy(w, ws.part[q*lp:q*lp+lp])
+		for sg := 1; sg < nseg; sg++ {
+			p := ws.part[(sg*nb+q)*lp : (sg*nb+q)*lp+lp]
+			for k := range w {
+				w[k] += p[k]
+			}
+		}
+		mu, inv := op.center[s.ord], op.scale[s.ord]
+		// T - S_j: the sum of X over the samples called at marker j.
+		called := make([]float64, lp)
+		copy(called, ws.tot)
+		for _, i := range ws.miss[q] {
+			xi := ws.x[int(i)*lp : int(i)*lp+lp]
+			for k := range called {
+				called[k] -= xi[k]
+			}
+		}
+		for k := range w {
+			w[k] = (w[k] - mu*called[k]) * inv
+		}
+	})
+}
+
+// genoChunk applies one chunk of 2-bit calls: Y += Z_b^T Z_b X.
+func (op *Operator) genoChunk(ws *workspace, c *matrixio.Chunk) {
+	sels := op.chunkSel[c.Index]
+	lp, n, nb := ws.lp, op.n, len(sels)
+	op.genoFirst(ws, c, sels)
+	ws.wpp = grow(ws.wpp, nb*lp)
+	for q, s := range sels {
+		mu, inv := op.center[s.ord], op.scale[s.ord]
+		w := ws.w[q*lp : q*lp+lp]
+		d := ws.wpp[q*lp : q*lp+lp]
+		for k := range d {
+			d[k] = w[k] * inv
+			ws.btot[k] -= mu * d[k]
+		}
+	}
+	rb := op.st.RowBytes()
+	offs := rowOffsets(sels, rb, make([]int32, 0, nb))
+	segs := segments(n, 4)
+	op.forEach(len(segs)-1, func(sg, t int) {
+		buck := ws.tabs[t]
+		a, b := segs[sg], segs[sg+1]
+		acc := make([]float64, 2*lp)
+		g, end := a/4, (b+3)/4
+		for g < end {
+			width := 1
+			if g+4 <= end {
+				width = 4
+				clear(buck)
+				scatterAdd4(buck, ws.wpp, c.Raw, offs, g, lp)
+			} else {
+				clear(buck[:256*lp])
+				scatterAdd(buck, ws.wpp, c.Raw, offs, g, lp)
+			}
+			for u := 0; u < width; u++ {
+				bu := buck[u*256*lp : (u+1)*256*lp]
+				for s := 0; s < 4 && 4*(g+u)+s < n; s++ {
+					i := 4*(g+u) + s
+					sumRows(acc[:lp], bu, &marginal[s][0], lp)
+					sumRows(acc[lp:], bu, &marginal[s][1], lp)
+					y := ws.y[i*lp : i*lp+lp]
+					a1, a2 := acc[:lp], acc[lp:2*lp]
+					for k := range y {
+						y[k] += a1[k] + 2*a2[k]
+					}
+				}
+			}
+			g += width
+		}
+		// Missing calls have z = 0: give back the -mu_j W''_j of btot.
+		for q, s := range sels {
+			mu := op.center[s.ord]
+			d := ws.wpp[q*lp : q*lp+lp]
+			for _, i := range ws.miss[q] {
+				if int(i) < a || int(i) >= b {
+					continue
+				}
+				y := ws.y[int(i)*lp : int(i)*lp+lp]
+				for k := range y {
+					y[k] += mu * d[k]
+				}
+			}
+		}
+	})
+}
+
+// gatherAddGeneric: for each marker q, dst[q] += tab[byte g of its row].
+func gatherAddGeneric(dst, tab []float64, raw []byte, offs []int32, g, lp int) {
+	for q, o := range offs {
+		v := int(raw[int(o)+g])
+		d := dst[q*lp : q*lp+lp]
+		s := tab[v*lp : v*lp+lp]
+		for k := range d {
+			d[k] += s[k]
+		}
+	}
+}
+
+// scatterAddGeneric: for each marker q, buck[byte g of its row] += src[q].
+func scatterAddGeneric(buck, src []float64, raw []byte, offs []int32, g, lp int) {
+	for q, o := range offs {
+		v := int(raw[int(o)+g])
+		d := buck[v*lp : v*lp+lp]
+		s := src[q*lp : q*lp+lp]
+		for k := range d {
+			d[k] += s[k]
+		}
+	}
+}
+
+// sumRowsGeneric sets acc = sum of the 64 rows of buck listed in idx.
+func sumRowsGeneric(acc, buck []float64, idx *[64]uint8, lp int) {
+	clear(acc)
+	for _, v := range idx {
+		s := buck[int(v)*lp : int(v)*lp+lp]
+		for k := range acc {
+			acc[k] += s[k]
+		}
+	}
+}
+
+// gatherAdd4Generic is four consecutive groups of gatherAdd with one
+// update of dst per marker: dst[q] += ((t0 + t1) + t2) + t3, in that order
+// (the vector kernel adds in the same order, so results are identical).
+func gatherAdd4Generic(dst, tab []float64, raw []byte, offs []int32, g, lp int) {
+	tb := 256 * lp
+	for q, o := range offs {
+		b := raw[int(o)+g : int(o)+g+4]
+		t0 := tab[int(b[0])*lp : int(b[0])*lp+lp]
+		t1 := tab[tb+int(b[1])*lp : tb+int(b[1])*lp+lp]
+		t2 := tab[2*tb+int(b[2])*lp : 2*tb+int(b[2])*lp+lp]
+		t3 := tab[3*tb+int(b[3])*lp : 3*tb+int(b[3])*lp+lp]
+		d := dst[q*lp : q*lp+lp]
+		for k := range d {
+			d[k] += ((t0[k] + t1[k]) + t2[k]) + t3[k]
+		}
+	}
+}
+
+// scatterAdd4Generic is four consecutive groups of scatterAdd.
+func scatterAdd4Generic(buck, src []float64, raw []byte, offs []int32, g, lp int) {
+	tb := 256 * lp
+	for q, o := range offs {
+		b := raw[int(o)+g : int(o)+g+4]
+		s := src[q*lp : q*lp+lp]
+		for t := 0; t < 4; t++ {
+			d := buck[t*tb+int(b[t])*lp : t*tb+int(b[t])*lp+lp]
+			for k := range d {
+				d[k] += s[k]
+			}
+		}
+	}
+}
