@@ -1,6 +1,8 @@
 package randsvd
 
 import (
+	"encoding/binary"
+
 	"github.com/clinal/clinal/matrixio"
 )
 
@@ -36,9 +38,9 @@ func segments(n, _ int) []int {
 	return append(b, n)
 }
 
-// marginal[s][c-1] lists the 64 byte values whose code at position s is c
+// marginalIdx[s][c-1] lists the 64 byte values whose code at position s is c
 // (c = 1, 2).
-var marginal = func() (m [4][2][64]uint8) {
+var marginalIdx = func() (m [4][2][64]uint8) {
 	var k [4][2]int
 	for v := 0; v < 256; v++ {
 		for s := 0; s < 4; s++ {
@@ -104,14 +106,26 @@ func rowOffsets(sels []sel, rb int, buf []int32) []int32 {
 	return buf
 }
 
-// findMissing lists the samples with a missing call in a packed row.
+// findMissing lists the samples with a missing call (code 3) in a packed
+// row, testing eight bytes at a time.
 func findMissing(row []byte, n int, dst []int32) []int32 {
 	dst = dst[:0]
-	for bi, by := range row {
-		if m := by & (by >> 1) & 0x55; m != 0 {
-			for s := 0; s < 4; s++ {
-				if m&(1<<(2*s)) != 0 && 4*bi+s < n {
-					dst = append(dst, int32(4*bi+s))
+	const lo = 0x5555555555555555
+	bi := 0
+	for ; bi < len(row); bi += 8 {
+		if bi+8 <= len(row) {
+			x := binary.LittleEndian.Uint64(row[bi:])
+			if x&(x>>1)&lo == 0 {
+				continue
+			}
+		}
+		for b := bi; b < min(bi+8, len(row)); b++ {
+			by := row[b]
+			if m := by & (by >> 1) & 0x55; m != 0 {
+				for s := 0; s < 4; s++ {
+					if m&(1<<(2*s)) != 0 && 4*b+s < n {
+						dst = append(dst, int32(4*b+s))
+					}
 				}
 			}
 		}
@@ -161,7 +175,19 @@ func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
 		}
 		mu, inv := op.center[s.ord], op.scale[s.ord]
 		// T - S_j: the sum of X over the samples called at marker j.
-		called := make([]float64, lp)
+		if len(ws.miss[q]) == 0 {
+			for k := range w {
+				w[k] = (w[k] - mu*ws.tot[k]) * inv
+			}
+			return
+		}
+		var stack [64]float64
+		called := stack[:0]
+		if lp > len(stack) {
+			called = make([]float64, lp)
+		} else {
+			called = stack[:lp]
+		}
 		copy(called, ws.tot)
 		for _, i := range ws.miss[q] {
 			xi := ws.x[int(i)*lp : int(i)*lp+lp]
@@ -196,7 +222,6 @@ func (op *Operator) genoChunk(ws *workspace, c *matrixio.Chunk) {
 	op.forEach(len(segs)-1, func(sg, t int) {
 		buck := ws.tabs[t]
 		a, b := segs[sg], segs[sg+1]
-		acc := make([]float64, 2*lp)
 		g, end := a/4, (b+3)/4
 		for g < end {
 			width := 1
@@ -212,13 +237,7 @@ func (op *Operator) genoChunk(ws *workspace, c *matrixio.Chunk) {
 				bu := buck[u*256*lp : (u+1)*256*lp]
 				for s := 0; s < 4 && 4*(g+u)+s < n; s++ {
 					i := 4*(g+u) + s
-					sumRows(acc[:lp], bu, &marginal[s][0], lp)
-					sumRows(acc[lp:], bu, &marginal[s][1], lp)
-					y := ws.y[i*lp : i*lp+lp]
-					a1, a2 := acc[:lp], acc[lp:2*lp]
-					for k := range y {
-						y[k] += a1[k] + 2*a2[k]
-					}
+					marginal(ws.y[i*lp:i*lp+lp], bu, &marginalIdx[s][0], &marginalIdx[s][1], lp)
 				}
 			}
 			g += width
@@ -264,14 +283,21 @@ func scatterAddGeneric(buck, src []float64, raw []byte, offs []int32, g, lp int)
 	}
 }
 
-// sumRowsGeneric sets acc = sum of the 64 rows of buck listed in idx.
-func sumRowsGeneric(acc, buck []float64, idx *[64]uint8, lp int) {
-	clear(acc)
-	for _, v := range idx {
-		s := buck[int(v)*lp : int(v)*lp+lp]
-		for k := range acc {
-			acc[k] += s[k]
+// marginalGeneric adds to y the buckets whose code at this position is 1
+// (l1) once and those whose code is 2 (l2) twice, as
+// (E1 + O1) + 2 (E2 + O2) with even and odd list positions summed
+// separately in increasing order (the vector kernel's order).
+func marginalGeneric(y, buck []float64, l1, l2 *[64]uint8, lp int) {
+	for k := 0; k < lp; k++ {
+		var e1, o1, e2, o2 float64
+		for t := 0; t < 64; t += 2 {
+			e1 += buck[int(l1[t])*lp+k]
+			o1 += buck[int(l1[t+1])*lp+k]
+			e2 += buck[int(l2[t])*lp+k]
+			o2 += buck[int(l2[t+1])*lp+k]
 		}
+		a := e2 + o2
+		y[k] += (e1 + o1) + (a + a)
 	}
 }
 

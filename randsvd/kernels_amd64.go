@@ -45,10 +45,6 @@ func checkKernel(rowsLen, tabLen, rawLen int, offs []int32, g, lp, wantRows, wan
 	}
 }
 
-func sumRows(acc, buck []float64, idx *[64]uint8, lp int) {
-	sumRowsGeneric(acc, buck, idx, lp)
-}
-
 //go:noescape
 func gatherAdd4AVX2(dst, tab *float64, raw *byte, offs *int32, n, grp, lp int)
 
@@ -71,4 +67,18 @@ func scatterAdd4(buck, src []float64, raw []byte, offs []int32, g, lp int) {
 	}
 	checkKernel(len(src), len(buck), len(raw), offs, g+3, lp, len(offs)*lp, 4*256*lp)
 	scatterAdd4AVX2(&buck[0], &src[0], &raw[0], &offs[0], len(offs), g, lp)
+}
+
+//go:noescape
+func marginalAVX2(y, buck *float64, l1, l2 *uint8, lp int)
+
+func marginal(y, buck []float64, l1, l2 *[64]uint8, lp int) {
+	if !useAVX2 || lp == 0 {
+		marginalGeneric(y, buck, l1, l2, lp)
+		return
+	}
+	if len(y) < lp || len(buck) < 256*lp || lp%4 != 0 {
+		panic("randsvd: marginal shape out of range")
+	}
+	marginalAVX2(&y[0], &buck[0], &l1[0], &l2[0], lp)
 }

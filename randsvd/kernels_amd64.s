@@ -207,3 +207,52 @@ s4inner:
 s4done:
 	VZEROUPPER
 	RET
+
+// func marginalAVX2(y, buck *float64, l1, l2 *uint8, lp int)
+// y[k] += (E1 + O1) + 2*(E2 + O2) with E1 (O1) the sum over even (odd) t
+// of buck[l1[t]][k], t in [0, 64), added in increasing t, and E2, O2 the
+// same over l2.
+TEXT ·marginalAVX2(SB), NOSPLIT, $0-40
+	MOVQ y+0(FP), DI
+	MOVQ buck+8(FP), SI
+	MOVQ l1+16(FP), R8
+	MOVQ l2+24(FP), R9
+	MOVQ lp+32(FP), R11
+	SHLQ $3, R11
+	XORQ DX, DX
+
+mcol:
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	LEAQ (SI)(DX*1), R10
+	XORQ CX, CX
+
+mrow:
+	MOVBQZX (R8)(CX*1), AX
+	IMULQ R11, AX
+	VADDPD (R10)(AX*1), Y0, Y0
+	MOVBQZX 1(R8)(CX*1), AX
+	IMULQ R11, AX
+	VADDPD (R10)(AX*1), Y1, Y1
+	MOVBQZX (R9)(CX*1), AX
+	IMULQ R11, AX
+	VADDPD (R10)(AX*1), Y2, Y2
+	MOVBQZX 1(R9)(CX*1), AX
+	IMULQ R11, AX
+	VADDPD (R10)(AX*1), Y3, Y3
+	ADDQ $2, CX
+	CMPQ CX, $64
+	JLT mrow
+	VADDPD Y1, Y0, Y0
+	VADDPD Y3, Y2, Y2
+	VADDPD Y2, Y2, Y2
+	VADDPD Y2, Y0, Y0
+	VADDPD (DI)(DX*1), Y0, Y0
+	VMOVUPD Y0, (DI)(DX*1)
+	ADDQ $32, DX
+	CMPQ DX, R11
+	JLT mcol
+	VZEROUPPER
+	RET

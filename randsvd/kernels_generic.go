@@ -13,14 +13,14 @@ func scatterAdd(buck, src []float64, raw []byte, offs []int32, g, lp int) {
 	scatterAddGeneric(buck, src, raw, offs, g, lp)
 }
 
-func sumRows(acc, buck []float64, idx *[64]uint8, lp int) {
-	sumRowsGeneric(acc, buck, idx, lp)
-}
-
 func gatherAdd4(dst, tab []float64, raw []byte, offs []int32, g, lp int) {
 	gatherAdd4Generic(dst, tab, raw, offs, g, lp)
 }
 
 func scatterAdd4(buck, src []float64, raw []byte, offs []int32, g, lp int) {
 	scatterAdd4Generic(buck, src, raw, offs, g, lp)
+}
+
+func marginal(y, buck []float64, l1, l2 *[64]uint8, lp int) {
+	marginalGeneric(y, buck, l1, l2, lp)
 }
