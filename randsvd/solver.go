@@ -69,6 +69,10 @@ type State struct {
 	Theta      []float64
 	TraceSqEst float64
 	History    [][]float64
+	// PrevCaptured is the captured variance (sum of the wanted Ritz
+	// values) of the pass before Pass, NaN when there is none; the
+	// bulk-variance stopping test compares against it.
+	PrevCaptured float64
 }
 
 // Solve computes the top-K eigenpairs of a by a restarted block Krylov
@@ -134,7 +138,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			return nil, fmt.Errorf("solve: start block: %w", err)
 		}
 		u, au, theta := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l)
-		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l)}
+		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l), PrevCaptured: math.NaN()}
 		st.History = append(st.History, relResiduals(u, au, theta, opt.K))
 		if opt.Pass != nil {
 			opt.Pass(1, maxOf(st.History[0]))
@@ -149,10 +153,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	au := mat.NewDense(n, l, st.AU)
 	theta := st.Theta
 	reason := "max-passes"
-	prevVar := math.NaN()
-	if len(st.History) > 1 && opt.Resume != nil {
-		prevVar = math.NaN() // the variance test needs two passes seen in this run
-	}
+	prevVar := st.PrevCaptured
 	for {
 		rel := relResiduals(u, au, theta, opt.K)
 		if allBelow(rel, opt.Tol) {
@@ -198,7 +199,8 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		arm := mat.NewDense(n, l, ar)
 		u, au, theta = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l)
 		st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
-			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K))}
+			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
+			PrevCaptured: captured}
 		if opt.Pass != nil {
 			opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
 		}

@@ -1,0 +1,128 @@
+package randsvd
+
+import (
+	"bufio"
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"hash/crc32"
+	"io"
+	"math"
+	"os"
+
+	"github.com/clinal/clinal/matrixio"
+)
+
+// Checkpoint files hold a solver State after a completed pass, so a run
+// that was killed resumes where it stopped and gives the same numbers as
+// an uninterrupted one. Layout (little endian): magic "CLNLCKPT", u32
+// version, key (length-prefixed string identifying inputs and parameters),
+// u64 pass, l, n, k-history rows and width, then U, AU, Theta, the history
+// and TraceSqEst as float64, and a CRC32C of everything before it.
+
+var ckptMagic = [8]byte{'C', 'L', 'N', 'L', 'C', 'K', 'P', 'T'}
+
+// ErrCheckpointMismatch says a checkpoint belongs to other inputs or
+// parameters.
+var ErrCheckpointMismatch = errors.New("checkpoint belongs to other inputs or parameters")
+
+// WriteCheckpoint stores st under path atomically (temporary name, fsync,
+// rename), tagged with key.
+func WriteCheckpoint(path, key string, st *State) error {
+	return matrixio.WriteFileAtomic(path, func(w io.Writer) error {
+		h := crc32.New(crc32.MakeTable(crc32.Castagnoli))
+		bw := bufio.NewWriter(io.MultiWriter(w, h))
+		bw.Write(ckptMagic[:])
+		put := func(v uint64) { binary.Write(bw, binary.LittleEndian, v) }
+		put(1)
+		put(uint64(len(key)))
+		bw.WriteString(key)
+		hw := 0
+		if len(st.History) > 0 {
+			hw = len(st.History[0])
+		}
+		for _, v := range []int{st.Pass, st.L, st.N, len(st.History), hw} {
+			put(uint64(v))
+		}
+		f := func(xs []float64) {
+			for _, x := range xs {
+				put(math.Float64bits(x))
+			}
+		}
+		f(st.U)
+		f(st.AU)
+		f(st.Theta)
+		for _, r := range st.History {
+			f(r)
+		}
+		f([]float64{st.TraceSqEst, st.PrevCaptured})
+		if err := bw.Flush(); err != nil {
+			return err
+		}
+		return binary.Write(w, binary.LittleEndian, h.Sum32())
+	})
+}
+
+// ReadCheckpoint loads a checkpoint written with the same key; a missing
+// file returns (nil, nil), a different key ErrCheckpointMismatch. Sizes are
+// checked against the file's length before anything is allocated.
+func ReadCheckpoint(path, key string) (*State, error) {
+	b, err := os.ReadFile(path)
+	if errors.Is(err, os.ErrNotExist) {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, fmt.Errorf("checkpoint %s: %w", path, err)
+	}
+	bad := func(what string) error { return fmt.Errorf("checkpoint %s: %s", path, what) }
+	if len(b) < 8+8*7+4 || string(b[:8]) != string(ckptMagic[:]) {
+		return nil, bad("not a checkpoint")
+	}
+	body := b[:len(b)-4]
+	if crc32.Checksum(body, crc32.MakeTable(crc32.Castagnoli)) != binary.LittleEndian.Uint32(b[len(b)-4:]) {
+		return nil, bad("checksum mismatch (incomplete or damaged)")
+	}
+	r := body[8:]
+	get := func() uint64 {
+		if len(r) < 8 {
+			r = nil
+			return 0
+		}
+		v := binary.LittleEndian.Uint64(r)
+		r = r[8:]
+		return v
+	}
+	if get() != 1 {
+		return nil, bad("unknown version")
+	}
+	kl := get()
+	if kl > uint64(len(r)) {
+		return nil, bad("bad key length")
+	}
+	if string(r[:kl]) != key {
+		return nil, ErrCheckpointMismatch
+	}
+	r = r[kl:]
+	pass, l, n, hr, hw := get(), get(), get(), get(), get()
+	need := (2*n*l + l + hr*hw + 2) * 8
+	if n == 0 || l == 0 || n > 1<<32 || l > 1<<16 || hr > 1<<20 || hw > 1<<16 || uint64(len(r)) != need {
+		return nil, bad("sizes do not match the file")
+	}
+	f := func(m uint64) []float64 {
+		out := make([]float64, m)
+		for i := range out {
+			out[i] = math.Float64frombits(get())
+		}
+		return out
+	}
+	st := &State{Pass: int(pass), L: int(l), N: int(n)}
+	st.U = f(n * l)
+	st.AU = f(n * l)
+	st.Theta = f(l)
+	for i := uint64(0); i < hr; i++ {
+		st.History = append(st.History, f(hw))
+	}
+	tail := f(2)
+	st.TraceSqEst, st.PrevCaptured = tail[0], tail[1]
+	return st, nil
+}
