@@ -14,6 +14,7 @@ type PCAOptions struct {
 	K          int
 	Oversample int
 	Tol        float64
+	VarTol     float64 // bulk stop: relative change of the captured variance (default 1e-3)
 	MaxPasses  int
 	Seed       uint64
 	Threads    int
@@ -154,7 +155,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 		edge = MPUpperEdgeScaled(trace, op.Dim(), op.Markers())
 	}
 	res, err := Solve(ctx, op, SolveOptions{K: opt.K, Oversample: opt.Oversample, Tol: opt.Tol,
-		MaxPasses: opt.MaxPasses, Seed: opt.Seed, BulkEdge: edge, Checkpoint: opt.Checkpoint, Resume: opt.Resume,
+		MaxPasses: opt.MaxPasses, Seed: opt.Seed, BulkEdge: edge, VarTol: opt.VarTol, Checkpoint: opt.Checkpoint, Resume: opt.Resume,
 		Pass: func(p int, rel float64) {
 			pass = p
 			if opt.Pass != nil {
