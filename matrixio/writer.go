@@ -2,7 +2,9 @@ package matrixio
 
 import (
 	"bufio"
+	"crypto/rand"
 	"encoding/binary"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -106,7 +108,7 @@ func Create(path string, samples []string, opt WriterOptions) (*Writer, error) {
 	if dir == "" {
 		dir = "."
 	}
-	f, err := os.CreateTemp(dir, "."+base+".*.partial")
+	f, err := createTemp(dir, base)
 	if err != nil {
 		return nil, fmt.Errorf("create %s: %w", path, err)
 	}
@@ -469,7 +471,7 @@ func CreateAtomic(path string) (*AtomicFile, error) {
 	if dir == "" {
 		dir = "."
 	}
-	f, err := os.CreateTemp(dir, "."+base+".*.partial")
+	f, err := createTemp(dir, base)
 	if err != nil {
 		return nil, fmt.Errorf("create %s: %w", path, err)
 	}
@@ -520,4 +522,27 @@ func WriteFileAtomic(path string, fn func(io.Writer) error) error {
 		return fmt.Errorf("write %s: %w", path, err)
 	}
 	return a.Commit()
+}
+
+// createTemp creates a new hidden temporary file ".BASE.RANDOM.partial" in
+// dir with mode 0666 less the umask (as the final file would get), unlike
+// os.CreateTemp's 0600.
+func createTemp(dir, base string) (*os.File, error) {
+	var last error
+	for try := 0; try < 100; try++ {
+		var rb [6]byte
+		if _, err := rand.Read(rb[:]); err != nil {
+			return nil, err
+		}
+		name := filepath.Join(dir, "."+base+"."+hex.EncodeToString(rb[:])+".partial")
+		f, err := os.OpenFile(name, os.O_RDWR|os.O_CREATE|os.O_EXCL, 0o666)
+		if err == nil {
+			return f, nil
+		}
+		if !errors.Is(err, os.ErrExist) {
+			return nil, err
+		}
+		last = err
+	}
+	return nil, last
 }
