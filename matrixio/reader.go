@@ -286,16 +286,31 @@ func (t *tableReader) f64() float64 {
 
 func (s *Store) parseMarkers(raw []byte, n int) error {
 	t := &tableReader{b: raw}
+	// Chromosome names and short alleles repeat across markers: share one
+	// string each, so the table costs little more than the IDs.
+	intern := map[string]string{}
+	short := func(v string) string {
+		if len(v) > 8 {
+			return v
+		}
+		if u, ok := intern[v]; ok {
+			return u
+		}
+		if len(intern) < 4096 {
+			intern[v] = v
+		}
+		return v
+	}
 	s.markers = make([]Marker, n)
 	s.counts = make([]Counts, n)
 	N := uint64(s.meta.Samples)
 	for i := 0; i < n && t.err == nil; i++ {
 		m := &s.markers[i]
-		m.Chrom = t.str()
+		m.Chrom = short(t.str())
 		m.Pos = int64(t.uvarint())
 		m.ID = t.str()
-		m.Ref = t.str()
-		m.Alt = t.str()
+		m.Ref = short(t.str())
+		m.Alt = short(t.str())
 		c := &s.counts[i]
 		a, b, d, e := t.uvarint(), t.uvarint(), t.uvarint(), t.uvarint()
 		if t.err == nil && a+b+d+e != N {

@@ -256,3 +256,27 @@ func TestSolveAgainstEigenSym(t *testing.T) {
 		})
 	}
 }
+
+// TestExactTraceSq checks trace(K^2) computed through the operator against
+// the dense K from gonum: sum of squared entries (the Frobenius norm).
+func TestExactTraceSq(t *testing.T) {
+	st, geno := testCohort(t, 97, 300, 2, 0.05, 0.02, 31, 32)
+	kd := denseK(geno, 97)
+	var want float64
+	for i := 0; i < 97; i++ {
+		for j := 0; j < 97; j++ {
+			want += kd.At(i, j) * kd.At(i, j)
+		}
+	}
+	op, err := NewOperator(st, OperatorOptions{Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := ExactTraceSq(context.Background(), op, 32)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(got-want) > 1e-12*want {
+		t.Errorf("trace(K^2) %v, dense %v", got, want)
+	}
+}

@@ -101,7 +101,7 @@ func addRowsScaled(dst, src, x []float64, f float64, rows, lp int) {
 func rowOffsets(sels []sel, rb int, buf []int32) []int32 {
 	buf = buf[:0]
 	for _, s := range sels {
-		buf = append(buf, int32(s.off*rb))
+		buf = append(buf, int32(int(s.off)*rb))
 	}
 	return buf
 }
@@ -164,7 +164,7 @@ func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
 	})
 	op.forEach(nb, func(q, _ int) {
 		s := sels[q]
-		ws.miss[q] = findMissing(c.Raw[s.off*rb:(s.off+1)*rb], n, ws.miss[q])
+		ws.miss[q] = findMissing(c.Raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
 		w := ws.w[q*lp : q*lp+lp]
 		copy(w, ws.part[q*lp:q*lp+lp])
 		for sg := 1; sg < nseg; sg++ {

@@ -77,7 +77,6 @@ type Operator struct {
 	markers []int // kept markers (store indices), ascending
 	center  []float64
 	scale   []float64
-	tab     [][4]float64 // geno2: standardized value per code (missing 0)
 	chunks  []int
 	// chunkSel[c] lists offsets within chunk c of kept markers and their
 	// kept-marker ordinal.
@@ -93,8 +92,8 @@ type Operator struct {
 }
 
 type sel struct {
-	off int // within chunk
-	ord int // kept-marker ordinal
+	off int32 // within chunk
+	ord int32 // kept-marker ordinal
 }
 
 // DroppedMarkers counts markers the operator excluded even though they were
@@ -203,7 +202,6 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 			for g := 0; g < 3; g++ {
 				t[g] = (float64(g) - mu) / sd
 			}
-			op.tab = append(op.tab, t)
 			// Exact trace contribution from counts: sum_c n_c t_c^2.
 			op.trace += float64(c.HomRef)*t[0]*t[0] + float64(c.Het)*t[1]*t[1] + float64(c.HomAlt)*t[2]*t[2]
 		}
@@ -212,7 +210,7 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		if _, ok := op.chunkSel[ch]; !ok {
 			op.chunks = append(op.chunks, ch)
 		}
-		op.chunkSel[ch] = append(op.chunkSel[ch], sel{off: j - first, ord: ord})
+		op.chunkSel[ch] = append(op.chunkSel[ch], sel{off: int32(j - first), ord: int32(ord)})
 	}
 	if op.mTotal == 0 {
 		return nil, matrixio.BadInput("operator: no polymorphic markers left after filters")
@@ -356,7 +354,7 @@ func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn f
 			op.genoFirst(ws, c, sels)
 		}
 		for q, s := range sels {
-			if err := fn(s.ord, ws.w[q*ws.lp:q*ws.lp+l]); err != nil {
+			if err := fn(int(s.ord), ws.w[q*ws.lp:q*ws.lp+l]); err != nil {
 				return err
 			}
 		}
@@ -447,7 +445,7 @@ func (op *Operator) floatFirst(ws *workspace, c *matrixio.Chunk, sels []sel) []f
 	tr := make([]float64, nb)
 	op.forEach(nb, func(q, _ int) {
 		s := sels[q]
-		row := c.Raw[s.off*rb : (s.off+1)*rb]
+		row := c.Raw[int(s.off)*rb : (int(s.off)+1)*rb]
 		z := ws.z[q*n : (q+1)*n]
 		mu, inv := op.center[s.ord], op.scale[s.ord]
 		w := ws.w[q*lp : q*lp+lp]

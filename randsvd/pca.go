@@ -29,6 +29,13 @@ type PCAOptions struct {
 	Pass       func(pass int, maxRel float64)
 	Checkpoint func(*State) error
 	Resume     *State
+	// TW selects the Tracy-Widom test: "exact" computes trace(K^2) exactly
+	// (Dim()/32 extra passes), "approx" takes the effective number of
+	// markers as M (right for LD-pruned markers, anti-conservative with
+	// LD left in), "off" skips it, "" or "auto" is exact up to TWExactMax
+	// samples and approx beyond.
+	TW         string
+	TWExactMax int // default 4000
 }
 
 // PCAResult is the outcome of RunPCA.
@@ -48,6 +55,9 @@ type PCAResult struct {
 	Dropped     DroppedMarkers
 	MPEdge      float64 // (trace/N) (1 + sqrt(N/M))^2
 	Plan        MemoryPlan
+	TW          []TWResult // per PC; nil when the test was off
+	TWMethod    string     // how n' was obtained: "exact trace(K^2)", "assumed M" or "off"
+	TraceSq     float64    // exact trace(K^2) when TWMethod is exact, else NaN
 }
 
 // MemoryPlan is how a run fits its memory promise.
@@ -170,6 +180,9 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 		Markers: op.Markers(), Passes: res.Passes, StopReason: res.StopReason, BlockSize: res.BlockSize,
 		History: res.History, Dropped: op.Dropped(), Plan: plan}
 	out.MPEdge = MPUpperEdgeScaled(out.Trace, op.Dim(), op.Markers())
+	if err := tracyWidom(ctx, op, opt, out); err != nil {
+		return nil, nil, err
+	}
 	return out, op, nil
 }
 
@@ -195,4 +208,72 @@ func Loadings(ctx context.Context, op *Operator, res *PCAResult, fn func(ord int
 		}
 		return fn(ord, v)
 	})
+}
+
+// ExactTraceSq computes trace(K^2) = ||K||_F^2 exactly by applying K to the
+// identity in blocks of width columns (Dim()/width passes): the input
+// Patterson, Price & Reich 2006's effective number of markers needs, to
+// which the Tracy-Widom statistic is too sensitive for a stochastic
+// estimate (see TracyWidom).
+func ExactTraceSq(ctx context.Context, a Applier, width int) (float64, error) {
+	n := a.Dim()
+	if width < 1 {
+		width = 32
+	}
+	var total float64
+	for c0 := 0; c0 < n; c0 += width {
+		w := min(width, n-c0)
+		x := make([]float64, n*w)
+		for j := 0; j < w; j++ {
+			x[(c0+j)*w+j] = 1
+		}
+		y := make([]float64, n*w)
+		if err := a.Apply(ctx, x, y, w); err != nil {
+			return 0, err
+		}
+		for _, v := range y {
+			total += v * v
+		}
+	}
+	return total, nil
+}
+
+func tracyWidom(ctx context.Context, op *Operator, opt PCAOptions, out *PCAResult) error {
+	out.TraceSq = math.NaN()
+	mode := opt.TW
+	if opt.TWExactMax <= 0 {
+		opt.TWExactMax = 4000
+	}
+	if mode == "" || mode == "auto" {
+		mode = "approx"
+		if op.Dim() <= opt.TWExactMax {
+			mode = "exact"
+		}
+	}
+	in := TWInput{Eigenvalues: out.Eigenvalues, Trace: out.Trace, Samples: op.Dim(), Markers: op.Markers()}
+	switch mode {
+	case "off":
+		out.TWMethod = "off"
+		return nil
+	case "exact":
+		ts, err := ExactTraceSq(ctx, op, 32)
+		if err != nil {
+			return err
+		}
+		out.TraceSq, in.TraceSq = ts, ts
+		out.TWMethod = "exact trace(K^2)"
+	case "approx":
+		out.TWMethod = "assumed M"
+	default:
+		return matrixio.BadInput("--tw %q: want auto, exact, approx or off", opt.TW)
+	}
+	if len(in.Eigenvalues) > op.Dim()-1 {
+		in.Eigenvalues = in.Eigenvalues[:op.Dim()-1]
+	}
+	res, err := TracyWidom(in)
+	if err != nil {
+		return fmt.Errorf("tracy-widom: %w", err)
+	}
+	out.TW = res
+	return nil
 }
