@@ -215,18 +215,20 @@ func RowBytes(c Codec, n int) int {
 }
 
 // DefaultChunkMarkers picks markers per chunk so a decoded chunk is about
-// 2 MiB, between 8 and 4096 markers.
+// 4 MiB, between 8 and 8192 markers: large enough that the per-chunk costs
+// of the PCA kernels (group tables, bucket sums) are small against the
+// per-marker work, small enough that a few chunk buffers stay cheap.
 func DefaultChunkMarkers(c Codec, samples int) int {
 	rb := RowBytes(c, samples)
 	if rb == 0 {
 		return 4096
 	}
-	b := (2 << 20) / rb
+	b := (4 << 20) / rb
 	if b < 8 {
 		b = 8
 	}
-	if b > 4096 {
-		b = 4096
+	if b > 8192 {
+		b = 8192
 	}
 	return b
 }

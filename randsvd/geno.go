@@ -57,6 +57,13 @@ var marginalIdx = func() (m [4][2][64]uint8) {
 // buildTable fills tab (256 rows of lp) with sum_s val(code_s(v)) x_{4g+s}
 // for every byte value v; rows of samples beyond n count as zero.
 func buildTable(tab, x []float64, g, n, lp int) {
+	var stack [128]float64
+	x2 := stack[:0]
+	if lp <= len(stack) {
+		x2 = stack[:lp]
+	} else {
+		x2 = make([]float64, lp)
+	}
 	clear(tab[:4*lp])
 	i0 := 4 * g
 	if i0 < n {
@@ -72,27 +79,30 @@ func buildTable(tab, x []float64, g, n, lp int) {
 		i := i0 + s
 		// Entries with code 0 (and missing, code 3) at position s copy the
 		// lower table; code 1 adds x_i, code 2 adds 2 x_i.
-		copy(tab[span*lp:2*span*lp], tab[:span*lp])
 		copy(tab[3*span*lp:4*span*lp], tab[:span*lp])
 		if i < n {
 			xi := x[i*lp : i*lp+lp]
-			addRowsScaled(tab[span*lp:2*span*lp], tab[:span*lp], xi, 1, span, lp)
-			addRowsScaled(tab[2*span*lp:3*span*lp], tab[:span*lp], xi, 2, span, lp)
+			for k, v := range xi {
+				x2[k] = 2 * v
+			}
+			addRows(tab[span*lp:2*span*lp], tab[:span*lp], xi, span, lp)
+			addRows(tab[2*span*lp:3*span*lp], tab[:span*lp], x2, span, lp)
 		} else {
+			copy(tab[span*lp:2*span*lp], tab[:span*lp])
 			copy(tab[2*span*lp:3*span*lp], tab[:span*lp])
 		}
 		span *= 4
 	}
 }
 
-// addRowsScaled sets dst[r] = src[r] + f*x for r < rows.
-func addRowsScaled(dst, src, x []float64, f float64, rows, lp int) {
+// addRowsGeneric sets dst[r] = src[r] + v for r < rows.
+func addRowsGeneric(dst, src, v []float64, rows, lp int) {
+	v = v[:lp]
 	for r := 0; r < rows; r++ {
 		d := dst[r*lp : r*lp+lp]
 		s := src[r*lp : r*lp+lp]
-		x := x[:lp]
 		for k := range d {
-			d[k] = s[k] + f*x[k]
+			d[k] = s[k] + v[k]
 		}
 	}
 }

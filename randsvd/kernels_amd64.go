@@ -82,3 +82,18 @@ func marginal(y, buck []float64, l1, l2 *[64]uint8, lp int) {
 	}
 	marginalAVX2(&y[0], &buck[0], &l1[0], &l2[0], lp)
 }
+
+//go:noescape
+func addRowsAVX2(dst, src, v *float64, rows, lp int)
+
+// addRows sets dst[r] = src[r] + v for r < rows.
+func addRows(dst, src, v []float64, rows, lp int) {
+	if !useAVX2 || rows == 0 || lp == 0 {
+		addRowsGeneric(dst, src, v, rows, lp)
+		return
+	}
+	if lp%4 != 0 || len(dst) < rows*lp || len(src) < rows*lp || len(v) < lp {
+		panic("randsvd: addRows shape out of range")
+	}
+	addRowsAVX2(&dst[0], &src[0], &v[0], rows, lp)
+}

@@ -24,3 +24,7 @@ func scatterAdd4(buck, src []float64, raw []byte, offs []int32, g, lp int) {
 func marginal(y, buck []float64, l1, l2 *[64]uint8, lp int) {
 	marginalGeneric(y, buck, l1, l2, lp)
 }
+
+func addRows(dst, src, v []float64, rows, lp int) {
+	addRowsGeneric(dst, src, v, rows, lp)
+}

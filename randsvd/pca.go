@@ -277,3 +277,23 @@ func tracyWidom(ctx context.Context, op *Operator, opt PCAOptions, out *PCAResul
 	out.TW = res
 	return nil
 }
+
+// Truncate keeps the first k PCs of the result.
+func (r *PCAResult) Truncate(k int) {
+	if k >= len(r.Eigenvalues) || k < 1 {
+		return
+	}
+	r.Eigenvalues, r.Residuals, r.Converged = r.Eigenvalues[:k], r.Residuals[:k], r.Converged[:k]
+	if len(r.TW) > k {
+		r.TW = r.TW[:k]
+	}
+	n, _ := r.Scores.Dims()
+	s := mat.NewDense(n, k, nil)
+	s.Copy(r.Scores.Slice(0, n, 0, k))
+	r.Scores = s
+	for i, h := range r.History {
+		if len(h) > k {
+			r.History[i] = h[:k]
+		}
+	}
+}

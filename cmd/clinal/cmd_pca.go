@@ -2,11 +2,16 @@ package main
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
 	"flag"
 	"fmt"
 	"math"
+	"os"
 	"runtime"
 	"runtime/debug"
+	"strconv"
 	"strings"
 	"syscall"
 	"time"
@@ -24,6 +29,7 @@ type pcaOptions struct {
 	oversample   int
 	seed         uint64
 	tol          float64
+	varTol       float64
 	maxPasses    int
 	threads      int
 	memory       byteSize
@@ -35,6 +41,9 @@ type pcaOptions struct {
 	qc           qc.Options
 	qcPrefix     string
 	noLoadings   bool
+	noResume     bool
+	tw           string
+	fs           *flag.FlagSet // the parsed flags (to tell which were set), nil from demo
 	twAlpha      float64
 	autoK        bool
 	maxAutoK     int
@@ -44,10 +53,24 @@ type pcaOptions struct {
 
 func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
 	fs.StringVar(&o.out, "o", "", "output prefix (PREFIX.covariates.tsv, ...)")
-	fs.IntVar(&o.k, "k", 10, "number of PCs")
+	fs.Func("k", "number of PCs, or auto: the Tracy-Widom significant ones (--tw-alpha) up to --k-max (default 10)", func(v string) error {
+		if v == "auto" {
+			o.autoK = true
+			return nil
+		}
+		n, err := strconv.Atoi(v)
+		if err != nil {
+			return fmt.Errorf("want a number or auto")
+		}
+		o.k, o.autoK = n, false
+		return nil
+	})
+	fs.IntVar(&o.maxAutoK, "k-max", 20, "with -k auto: most PCs computed and tested")
+	fs.Float64Var(&o.twAlpha, "tw-alpha", 0.05, "with -k auto: significance level of the Tracy-Widom test")
 	fs.IntVar(&o.oversample, "oversample", 0, "extra block vectors (default max(10, k/2))")
 	fs.Uint64Var(&o.seed, "seed", 1, "random seed (same seed and inputs give the same numbers)")
 	fs.Float64Var(&o.tol, "tol", 1e-6, "stop when ||K u - lambda u|| <= tol * lambda for every PC")
+	fs.Float64Var(&o.varTol, "var-tol", 1e-3, "PCs below the Marchenko-Pastur edge (noise) may stop once the captured variance changes by less than this per pass")
 	fs.IntVar(&o.maxPasses, "max-passes", 30, "most passes over the store")
 	fs.IntVar(&o.threads, "threads", runtime.NumCPU(), "compute threads (results do not depend on it)")
 	fs.Var(&o.memory, "memory", "memory promise, e.g. 4GiB (0: no limit)")
@@ -58,7 +81,9 @@ func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
 	fs.StringVar(&o.labels, "labels", "", "TSV sample_id -> group, for the report's plots")
 	fs.StringVar(&o.qcPrefix, "qc", "", "reuse the kept lists of a finished clinal qc run (PREFIX)")
 	fs.BoolVar(&o.noLoadings, "no-loadings", false, "skip the loadings file (saves half a pass)")
-	// TODO(qc): addFilterFlags(fs, &o.qc) once cmd_qc.go provides it.
+	fs.BoolVar(&o.noResume, "no-resume", false, "ignore a checkpoint left by an interrupted run with the same inputs")
+	fs.StringVar(&o.tw, "tw", "auto", "Tracy-Widom test: auto, exact (trace(K^2) in N/32 extra passes), approx (n' = M) or off")
+	addFilterFlags(fs, &o.qc)
 }
 
 // phaseTimes records wall and CPU seconds per phase.
@@ -107,18 +132,25 @@ func peakRSS() int64 {
 }
 
 func runPCA(ctx context.Context, e *env, args []string) error {
-	var o pcaOptions
+	o := pcaOptions{k: 10}
 	fs := flag.NewFlagSet("pca", flag.ContinueOnError)
 	pcaFlags(fs, &o)
 	pos, err := parseArgs(fs, args)
 	if err != nil {
 		return err
 	}
+	o.fs = fs
 	if len(pos) != 1 {
 		return usage("pca: want one STORE argument, got %d (clinal pca STORE -k K -o PREFIX)", len(pos))
 	}
 	if o.out == "" {
 		return usage("pca: -o PREFIX is required")
+	}
+	if o.autoK {
+		if o.maxAutoK < 1 || o.tw == "off" || !(o.twAlpha > 0 && o.twAlpha < 1) {
+			return usage("pca: -k auto needs --k-max >= 1, --tw not off and 0 < --tw-alpha < 1")
+		}
+		o.k = o.maxAutoK
 	}
 	if o.k < 1 {
 		return usage("pca: -k %d: want at least 1", o.k)
@@ -149,21 +181,16 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 	}
 	defer st.Close()
 	ph.start("qc")
-	var sel *qc.Selection
-	if o.qcPrefix != "" {
-		err = notYet("pca --qc")
-	} else {
-		o.qc.Threads = o.threads
-		sel, err = qc.Run(ctx, st, o.qc)
-	}
+	o.qc.Threads = o.threads
+	sel, err := qcSelection(ctx, o.fs, st, o.qc, o.qcPrefix)
 	if err != nil {
 		return nil, err
 	}
 	ph.start("solve")
 	var bar *progressbar.ProgressBar
-	popt := randsvd.PCAOptions{K: o.k, Oversample: o.oversample, Tol: o.tol, MaxPasses: o.maxPasses,
+	popt := randsvd.PCAOptions{K: o.k, Oversample: o.oversample, Tol: o.tol, VarTol: o.varTol, MaxPasses: o.maxPasses,
 		Seed: o.seed, Threads: o.threads, Memory: int64(o.memory), Scaling: randsvd.Scaling(o.scaling),
-		SampleKept: sel.SampleKept, MarkerKept: sel.MarkerKept, Counts: sel.Counts}
+		SampleKept: sel.SampleKept, MarkerKept: sel.MarkerKept, Counts: sel.Counts, TW: o.tw}
 	switch popt.Scaling {
 	case randsvd.ScalePatterson, randsvd.ScaleCenter, randsvd.ScaleZ:
 	default:
@@ -182,6 +209,23 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 			bar.Set(done)
 		}
 	}
+	// Checkpoint after every pass; a rerun of the same command (same store,
+	// selection and solver parameters) resumes from the last completed pass.
+	ckpt := o.out + ".checkpoint"
+	key := checkpointKey(st, sel, o)
+	if !o.noResume {
+		state, err := randsvd.ReadCheckpoint(ckpt, key)
+		switch {
+		case errors.Is(err, randsvd.ErrCheckpointMismatch):
+			fmt.Fprintf(e.stderr, "pca: ignoring %s: it belongs to other inputs or parameters\n", ckpt)
+		case err != nil:
+			fmt.Fprintf(e.stderr, "pca: ignoring %s: %v\n", ckpt, err)
+		case state != nil:
+			fmt.Fprintf(e.stderr, "pca: resuming from pass %d of an interrupted run (%s)\n", state.Pass, ckpt)
+			popt.Resume = state
+		}
+	}
+	popt.Checkpoint = func(s *randsvd.State) error { return randsvd.WriteCheckpoint(ckpt, key, s) }
 	res, op, err := randsvd.RunPCA(ctx, st, popt)
 	if bar != nil {
 		bar.Finish()
@@ -189,6 +233,45 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 	if err != nil {
 		return nil, err
 	}
+	if o.autoK {
+		k := max(1, randsvd.SignificantCount(res.TW, o.twAlpha))
+		fmt.Fprintf(e.stderr, "pca: -k auto: %d of %d PCs significant at alpha %g (Tracy-Widom, n' %s)\n", k, o.k, o.twAlpha, res.TWMethod)
+		res.Truncate(k)
+		o.k = k
+	}
+	out, err := writePCAOutputs(ctx, e, st, op, res, sel, o, ph, t0)
+	if err == nil {
+		os.Remove(ckpt)
+	}
+	return out, err
+}
+
+// checkpointKey identifies what a checkpoint's solver state depends on: the
+// store's content, the selection and the parameters that shape the
+// iteration (not tol or max-passes, which only decide when to stop).
+func checkpointKey(st *matrixio.Store, sel *qc.Selection, o *pcaOptions) string {
+	h := sha256.New()
+	fmt.Fprintf(h, "%s|k=%d|over=%d|seed=%d|scaling=%s|", st.Fingerprint(), o.k, o.oversample, o.seed, o.scaling)
+	for _, m := range [][]bool{sel.SampleKept, sel.MarkerKept} {
+		b := make([]byte, len(m))
+		for i, v := range m {
+			if v {
+				b[i] = 1
+			}
+		}
+		h.Write(b)
+	}
+	for _, c := range sel.Counts {
+		fmt.Fprintf(h, "%d,%d,%d,%d;", c.HomRef, c.Het, c.HomAlt, c.Missing)
+	}
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// writePCAOutputs writes every output of a finished PCA (loadings,
+// covariates, spectrum, report) atomically and prints the summary line. The
+// cluster driver calls it too, so both paths give the same files.
+func writePCAOutputs(ctx context.Context, e *env, st *matrixio.Store, op *randsvd.Operator, res *randsvd.PCAResult,
+	sel *qc.Selection, o *pcaOptions, ph *phaseTimes, t0 time.Time) (*pcaOutcome, error) {
 	out := &pcaOutcome{}
 	ph.start("loadings")
 	if !o.noLoadings {
@@ -237,6 +320,9 @@ func spectrumRows(res *randsvd.PCAResult) []matrixio.SpectrumRow {
 		cum += ev / res.Trace
 		rows[j] = matrixio.SpectrumRow{Eigenvalue: ev, VarianceFraction: ev / res.Trace, CumulativeFraction: cum,
 			Residual: res.Residuals[j], Converged: res.Converged[j], TWStatistic: math.NaN(), TWP: math.NaN()}
+		if j < len(res.TW) {
+			rows[j].TWStatistic, rows[j].TWP = res.TW[j].Statistic, res.TW[j].P
+		}
 	}
 	return rows
 }
@@ -290,6 +376,19 @@ type report struct {
 	Phases        []reportPhase      `json:"phases"`
 	PeakRSS       int64              `json:"peak_rss_bytes"`
 	Projection    string             `json:"projection"`
+	VarTol        float64            `json:"var_tol"`
+	TWMethod      string             `json:"tw_effective_markers"`
+	TraceSq       *float64           `json:"trace_sq_exact,omitempty"`
+	TWStatistics  []*float64         `json:"tw_statistics"`
+	TWP           []*float64         `json:"tw_p"`
+}
+
+// jsonNum maps NaN and infinities (which JSON cannot hold) to null.
+func jsonNum(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
 }
 
 type reportInput struct {
@@ -331,6 +430,11 @@ func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel 
 	}
 	for _, ev := range res.Eigenvalues {
 		r.VarianceFrac = append(r.VarianceFrac, ev/res.Trace)
+	}
+	r.VarTol, r.TWMethod, r.TraceSq = o.varTol, res.TWMethod, jsonNum(res.TraceSq)
+	for _, t := range res.TW {
+		r.TWStatistics = append(r.TWStatistics, jsonNum(t.Statistic))
+		r.TWP = append(r.TWP, jsonNum(t.P))
 	}
 	for _, k := range sel.SampleKept {
 		if k {
