@@ -51,12 +51,26 @@ func commands() map[string]command {
 }
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, cancel := context.WithCancelCause(context.Background())
+	sigs := make(chan os.Signal, 1)
+	signal.Notify(sigs, os.Interrupt, syscall.SIGTERM)
+	go func() {
+		s := <-sigs
+		cancel(interrupted{s.(syscall.Signal)})
+		// A second signal while cleaning up ends the process at once.
+		<-sigs
+		os.Exit(128 + int(s.(syscall.Signal)))
+	}()
 	e := &env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, tty: isTerminal(os.Stderr)}
 	code := run(ctx, e, os.Args[1:])
-	stop()
 	os.Exit(code)
 }
+
+// interrupted is the cancellation cause of a signal: the exit code is
+// 128 + its number (130 for SIGINT, 143 for SIGTERM).
+type interrupted struct{ sig syscall.Signal }
+
+func (i interrupted) Error() string { return "interrupted by " + i.sig.String() }
 
 // run executes one subcommand and returns the process exit code: 0 ok,
 // 1 runtime failure, 2 usage or bad input, 130/143 interrupted.
@@ -79,8 +93,17 @@ func run(ctx context.Context, e *env, args []string) int {
 		return 0
 	}
 	if errors.Is(err, context.Canceled) || ctx.Err() != nil {
-		fmt.Fprintf(e.stderr, "clinal %s: interrupted; temporary files removed; rerun the same command to resume\n", args[0])
-		return 130
+		code := 130
+		var in interrupted
+		if errors.As(context.Cause(ctx), &in) {
+			code = 128 + int(in.sig)
+		}
+		hint := "rerun the same command to start again"
+		if args[0] == "pca" {
+			hint = "rerun the same command to resume from the last completed pass"
+		}
+		fmt.Fprintf(e.stderr, "clinal %s: interrupted; no partial output left; %s\n", args[0], hint)
+		return code
 	}
 	fmt.Fprintf(e.stderr, "clinal %s: %s\n", args[0], oneLine(err.Error()))
 	if matrixio.IsBadInput(err) {
