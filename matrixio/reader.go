@@ -12,6 +12,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"sync"
 
 	"github.com/klauspost/compress/zstd"
 	"golang.org/x/sync/errgroup"
@@ -33,6 +34,31 @@ type Store struct {
 	dec        *zstd.Decoder
 	rowBytes   int
 	maxRaw     int
+	maxComp    int // largest compressed chunk
+
+	poolMu sync.Mutex
+	pool   []*Chunk // chunk buffers kept between streams (at most maxPooled)
+}
+
+const maxPooled = 16
+
+func (s *Store) getChunk() *Chunk {
+	s.poolMu.Lock()
+	defer s.poolMu.Unlock()
+	if n := len(s.pool); n > 0 {
+		c := s.pool[n-1]
+		s.pool = s.pool[:n-1]
+		return c
+	}
+	return &Chunk{}
+}
+
+func (s *Store) putChunk(c *Chunk) {
+	s.poolMu.Lock()
+	defer s.poolMu.Unlock()
+	if len(s.pool) < maxPooled {
+		s.pool = append(s.pool, c)
+	}
 }
 
 // Open opens a store, validating its footer, header, tables and chunk index
@@ -199,6 +225,7 @@ func (s *Store) load() error {
 			return fmt.Errorf("chunk index record %d: %w: inconsistent sizes", i, ErrCorrupt)
 		}
 		prevEnd = r.off + uint64(r.compLen)
+		s.maxComp = max(s.maxComp, int(r.compLen))
 	}
 	if prevEnd != ft.markersOff {
 		return fmt.Errorf("chunk index: %w: chunks end at %d, marker table at %d", ErrCorrupt, prevEnd, ft.markersOff)
@@ -421,7 +448,7 @@ func (s *Store) ReadChunk(c int, dst *Chunk) error {
 	}
 	r := s.index[c]
 	if cap(dst.comp) < int(r.compLen) {
-		dst.comp = make([]byte, r.compLen)
+		dst.comp = make([]byte, r.compLen, s.maxComp)
 	}
 	dst.comp = dst.comp[:r.compLen]
 	if _, err := s.f.ReadAt(dst.comp, int64(r.off)); err != nil && !(errors.Is(err, io.EOF)) {
@@ -456,8 +483,21 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 	nbuf := workers + 1
 	free := make(chan *Chunk, nbuf)
 	for i := 0; i < nbuf; i++ {
-		free <- &Chunk{}
+		free <- s.getChunk()
 	}
+	// Buffers go back to the store's pool when the stream ends, so repeated
+	// passes do not allocate them again. A buffer still being decoded when
+	// the stream is cancelled is left to the garbage collector.
+	defer func() {
+		for {
+			select {
+			case c := <-free:
+				s.putChunk(c)
+			default:
+				return
+			}
+		}
+	}()
 	type job struct {
 		buf  *Chunk
 		done chan error

@@ -69,7 +69,8 @@ type OperatorOptions struct {
 }
 
 // Operator applies K = Z^T Z / M for the kept samples and markers of a
-// store, streaming the chunks once per application.
+// store, streaming the chunks once per application. It keeps its pass
+// buffers between applications and is not safe for concurrent use.
 type Operator struct {
 	st      *matrixio.Store
 	n       int   // store samples
@@ -89,6 +90,7 @@ type Operator struct {
 	progress func(done, total int)
 	dropped  DroppedMarkers
 	isKept   []bool
+	ws       *workspace // buffers of the last pass, reused
 }
 
 type sel struct {
@@ -266,21 +268,35 @@ type workspace struct {
 	tabs  [][]float64
 }
 
+// newWorkspace returns the pass buffers for blocks of l vectors, reusing
+// the previous pass's when the shape matches (so passes do not allocate).
 func (op *Operator) newWorkspace(x []float64, l int, second bool) *workspace {
 	lp := (l + 3) &^ 3
-	ws := &workspace{l: l, lp: lp, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
+	ws := op.ws
+	if ws == nil || ws.l != l {
+		ws = &workspace{l: l, lp: lp, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
+		ws.tabs = make([][]float64, op.threads)
+		for t := range ws.tabs {
+			ws.tabs[t] = make([]float64, 4*256*lp)
+		}
+		op.ws = ws
+	} else {
+		clear(ws.tot)
+		clear(ws.btot)
+		ws.trace = ws.trace[:0]
+	}
 	if second {
-		ws.y = make([]float64, op.n*lp)
+		if len(ws.y) != op.n*lp {
+			ws.y = make([]float64, op.n*lp)
+		} else {
+			clear(ws.y)
+		}
 	}
 	for r, i := range op.kept {
 		copy(ws.x[i*lp:i*lp+l], x[r*l:(r+1)*l])
 		for k, v := range x[r*l : (r+1)*l] {
 			ws.tot[k] += v
 		}
-	}
-	ws.tabs = make([][]float64, op.threads)
-	for t := range ws.tabs {
-		ws.tabs[t] = make([]float64, 4*256*lp)
 	}
 	return ws
 }
