@@ -505,6 +505,10 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 	order := make(chan *job, nbuf)
 	g, ctx := errgroup.WithContext(ctx)
 	sem := make(chan struct{}, workers)
+	// Decodes still running when the stream stops are waited for, so no
+	// read of the file outlives Stream (the caller may Close the store).
+	var inflight sync.WaitGroup
+	defer inflight.Wait()
 	g.Go(func() error {
 		defer close(order)
 		for _, c := range chunks {
@@ -520,7 +524,9 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 			case <-ctx.Done():
 				return ctx.Err()
 			}
+			inflight.Add(1)
 			go func(c int) {
+				defer inflight.Done()
 				j.done <- s.ReadChunk(c, j.buf)
 				<-sem
 			}(c)

@@ -280,3 +280,27 @@ func TestExactTraceSq(t *testing.T) {
 		t.Errorf("trace(K^2) %v, dense %v", got, want)
 	}
 }
+
+// TestTW1TailAsymptote checks the far right tail used beyond s = 40
+// against the Fredholm-determinant quadrature: the ratio tends to 1 as s
+// grows (within 1% at s = 40) and the survival function stays finite and
+// decreasing far out (s = 79, which once panicked, and beyond).
+func TestTW1TailAsymptote(t *testing.T) {
+	prev := 2.0
+	for _, s := range []float64{10, 20, 30, 39.9} {
+		r := TW1Survival(s) / tw1Tail(s)
+		if math.Abs(r-1) > 0.35/math.Sqrt(s) {
+			t.Errorf("s %v: quadrature / asymptote = %v", s, r)
+		}
+		if math.Abs(r-1) > prev {
+			t.Errorf("s %v: ratio %v does not approach 1", s, r)
+		}
+		prev = math.Abs(r - 1)
+	}
+	for _, s := range []float64{41, 79.06, 150, 1e4} {
+		p := TW1Survival(s)
+		if !(p >= 0 && p < 1e-75) {
+			t.Errorf("TW1Survival(%v) = %v", s, p)
+		}
+	}
+}

@@ -2,8 +2,6 @@ package randsvd
 
 import (
 	"encoding/binary"
-
-	"github.com/clinal/clinal/matrixio"
 )
 
 // The 2-bit kernels work on groups of four samples, one packed byte of a
@@ -27,12 +25,19 @@ import (
 // thread count); first-product partials are summed over segments in order,
 // so the result never depends on scheduling.
 
-const segSamples = 512
+const (
+	segSamples  = 512 // samples per segment for small cohorts
+	maxSegments = 64  // at most this many segments (bounds the partials)
+)
 
-// segments returns boundaries of fixed sample segments: 0, 512, 1024, ..., n.
+// segments returns the boundaries of the fixed sample segments for n
+// samples: about 512 samples each, at most 64 of them, each a multiple of
+// 16 samples (four packed bytes) but the last. They depend on n alone.
 func segments(n, _ int) []int {
+	nseg := min(maxSegments, max(1, (n+segSamples-1)/segSamples))
+	size := ((n+nseg-1)/nseg + 15) &^ 15
 	var b []int
-	for a := 0; a < n; a += segSamples {
+	for a := 0; a < n; a += size {
 		b = append(b, a)
 	}
 	return append(b, n)
@@ -145,7 +150,7 @@ func findMissing(row []byte, n int, dst []int32) []int32 {
 
 // genoFirst computes W = Z_b X for the kept markers of a 2-bit chunk into
 // ws.w (row q for sels[q]), and the missing lists ws.miss.
-func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
+func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	lp, n, nb := ws.lp, op.n, len(sels)
 	rb := op.st.RowBytes()
 	offs := rowOffsets(sels, rb, make([]int32, 0, nb))
@@ -165,16 +170,16 @@ func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
 			for u := 0; u < 4; u++ {
 				buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, g+u, n, lp)
 			}
-			gatherAdd4(part, tab, c.Raw, offs, g, lp)
+			gatherAdd4(part, tab, raw, offs, g, lp)
 		}
 		for ; g < end; g++ {
 			buildTable(tab, ws.x, g, n, lp)
-			gatherAdd(part, tab, c.Raw, offs, g, lp)
+			gatherAdd(part, tab, raw, offs, g, lp)
 		}
 	})
 	op.forEach(nb, func(q, _ int) {
 		s := sels[q]
-		ws.miss[q] = findMissing(c.Raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
+		ws.miss[q] = findMissing(raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
 		w := ws.w[q*lp : q*lp+lp]
 		copy(w, ws.part[q*lp:q*lp+lp])
 		for sg := 1; sg < nseg; sg++ {
@@ -212,10 +217,9 @@ func (op *Operator) genoFirst(ws *workspace, c *matrixio.Chunk, sels []sel) {
 }
 
 // genoChunk applies one chunk of 2-bit calls: Y += Z_b^T Z_b X.
-func (op *Operator) genoChunk(ws *workspace, c *matrixio.Chunk) {
-	sels := op.chunkSel[c.Index]
+func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 	lp, n, nb := ws.lp, op.n, len(sels)
-	op.genoFirst(ws, c, sels)
+	op.genoFirst(ws, raw, sels)
 	ws.wpp = grow(ws.wpp, nb*lp)
 	for q, s := range sels {
 		mu, inv := op.center[s.ord], op.scale[s.ord]
@@ -238,10 +242,10 @@ func (op *Operator) genoChunk(ws *workspace, c *matrixio.Chunk) {
 			if g+4 <= end {
 				width = 4
 				clear(buck)
-				scatterAdd4(buck, ws.wpp, c.Raw, offs, g, lp)
+				scatterAdd4(buck, ws.wpp, raw, offs, g, lp)
 			} else {
 				clear(buck[:256*lp])
-				scatterAdd(buck, ws.wpp, c.Raw, offs, g, lp)
+				scatterAdd(buck, ws.wpp, raw, offs, g, lp)
 			}
 			for u := 0; u < width; u++ {
 				bu := buck[u*256*lp : (u+1)*256*lp]

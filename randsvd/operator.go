@@ -266,6 +266,54 @@ type workspace struct {
 	z     []float64 // float stores: b x N standardized block
 	trace []float64 // float stores: per-marker sum of squares
 	tabs  [][]float64
+	block []byte // kept rows of consecutive chunks, gathered into one block
+	bsels []sel  // their selections (off = row within block)
+	err   error  // first error of a MarkerProducts callback
+}
+
+// blockTarget is the number of markers the 2-bit kernels want per block:
+// the per-block costs (group tables, bucket sums) are about 1,000 row
+// operations per group of four samples, so blocks of 2,048 markers keep them
+// small. The block buffer is also kept within max(64 MiB, two X blocks).
+func (op *Operator) blockTarget(lp int) int {
+	rb := op.st.RowBytes()
+	limit := max(64<<20, 2*op.n*lp*8)
+	return max(1, min(2048, limit/rb))
+}
+
+// gatherBlock feeds a chunk's kept rows to process in blocks of about
+// blockTarget markers: a chunk that is big enough alone goes straight
+// through; smaller ones are copied together first (the copy costs one read
+// of the packed rows, much less than the kernels).
+func (op *Operator) gatherBlock(ws *workspace, c *matrixio.Chunk, process func(*workspace, []byte, []sel)) {
+	sels := op.chunkSel[c.Index]
+	target := op.blockTarget(ws.lp)
+	if len(ws.bsels) == 0 && len(sels) >= target {
+		process(ws, c.Raw, sels)
+		return
+	}
+	rb := op.st.RowBytes()
+	for _, s := range sels {
+		k := len(ws.bsels)
+		if cap(ws.block) < target*rb {
+			ws.block = make([]byte, 0, target*rb)
+		}
+		ws.block = append(ws.block[:k*rb], c.Raw[int(s.off)*rb:(int(s.off)+1)*rb]...)
+		ws.bsels = append(ws.bsels, sel{off: int32(k), ord: s.ord})
+		if len(ws.bsels) == target {
+			op.flushBlock(ws, process)
+		}
+	}
+}
+
+// flushBlock processes the gathered rows, if any.
+func (op *Operator) flushBlock(ws *workspace, process func(*workspace, []byte, []sel)) {
+	if len(ws.bsels) == 0 {
+		return
+	}
+	process(ws, ws.block, ws.bsels)
+	ws.bsels = ws.bsels[:0]
+	ws.block = ws.block[:0]
 }
 
 // newWorkspace returns the pass buffers for blocks of l vectors, reusing
@@ -317,7 +365,7 @@ func (op *Operator) Apply(ctx context.Context, x, y []float64, l int) error {
 		if op.float {
 			op.floatChunk(ws, c)
 		} else {
-			op.genoChunk(ws, c)
+			op.gatherBlock(ws, c, op.genoChunk)
 		}
 		done++
 		if op.progress != nil {
@@ -325,6 +373,9 @@ func (op *Operator) Apply(ctx context.Context, x, y []float64, l int) error {
 		}
 		return nil
 	})
+	if err == nil && !op.float {
+		op.flushBlock(ws, op.genoChunk)
+	}
 	if err != nil {
 		if errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
 			return err
@@ -359,23 +410,40 @@ func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn f
 		return fmt.Errorf("operator: shape x %d for %d x %d", len(x), nk, l)
 	}
 	ws := op.newWorkspace(x, l, false)
-	return op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
-		if err := ctx.Err(); err != nil {
-			return err
-		}
-		sels := op.chunkSel[c.Index]
-		if op.float {
-			op.floatFirst(ws, c, sels)
-		} else {
-			op.genoFirst(ws, c, sels)
-		}
+	ws.err = nil
+	emit := func(sels []sel) error {
 		for q, s := range sels {
 			if err := fn(int(s.ord), ws.w[q*ws.lp:q*ws.lp+l]); err != nil {
 				return err
 			}
 		}
 		return nil
+	}
+	first := func(ws *workspace, raw []byte, sels []sel) {
+		op.genoFirst(ws, raw, sels)
+		if ws.err == nil {
+			ws.err = emit(sels)
+		}
+	}
+	err := op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		if op.float {
+			sels := op.chunkSel[c.Index]
+			op.floatFirst(ws, c, sels)
+			return emit(sels)
+		}
+		op.gatherBlock(ws, c, first)
+		return ws.err
 	})
+	if err != nil {
+		return err
+	}
+	if !op.float {
+		op.flushBlock(ws, first)
+	}
+	return ws.err
 }
 
 // parallel runs fn(t) for t in [0, threads) and waits.

@@ -85,6 +85,8 @@ func TW1Survival(s float64) float64 {
 		return 1
 	case math.IsInf(s, 1):
 		return 0
+	case s > tw1TailFrom:
+		return tw1Tail(s)
 	}
 	b, _ := tw1Matrix(s, tw1Order(s), false)
 	var eig mat.EigenSym
@@ -101,6 +103,18 @@ func TW1Survival(s float64) float64 {
 		logDet += math.Log1p(-mu)
 	}
 	return clamp01(-math.Expm1(logDet))
+}
+
+// tw1TailFrom is where TW1Survival switches to the asymptotic tail: the
+// quadrature is accurate well beyond it, but its kernel underflows
+// further out (and the value is below 1e-75 there anyway).
+const tw1TailFrom = 40
+
+// tw1Tail is the right-tail asymptote 1 - F1(s) ~ exp(-(2/3) s^(3/2)) /
+// (4 sqrt(pi) s^(3/4)) (from memory; TestTW1TailAsymptote checks it
+// against the quadrature for s in [10, 40], where the ratio tends to 1).
+func tw1Tail(s float64) float64 {
+	return math.Exp(-2.0/3*math.Pow(s, 1.5)) / (4 * math.Sqrt(math.Pi) * math.Pow(s, 0.75))
 }
 
 // TW1PDF returns the Tracy-Widom (beta = 1) density f1(s) = F1'(s), from
