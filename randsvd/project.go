@@ -14,60 +14,6 @@ import (
 	"github.com/clinal/clinal/matrixio"
 )
 
-// Projection of new samples onto a finished PCA.
-//
-// # Scores
-//
-// The model holds, per marker j, the counted allele, its frequency p_j and
-// scale s_j over the fit's samples, and the loadings v_jk = (Z u_k)_j /
-// sqrt(M lambda_k), which have unit norm over the M model markers. A new
-// sample with genotype g_j (copies of the counted allele) has z_j = (g_j -
-// 2 p_j) / s_j and
-//
-//	score_k = sum_j z_j v_jk / sqrt(M lambda_k).
-//
-// For a sample of the fit, z is its column of Z and the sum is (K u_k)_i /
-// lambda_k = u_ik: projection reproduces the fit's scores (covariates.tsv)
-// exactly.
-//
-// # Markers the new sample lacks
-//
-// A model marker that the input does not have, or where the sample's call
-// is missing, contributes z_j = 0, which pulls the score toward 0 in
-// proportion to the loading mass that is absent. With RescaleMass (the
-// default) the sum is divided, per sample and PC, by the loading mass of
-// the markers present, m_ik = sum_{j present} v_jk^2 (which is 1 when all
-// are present):
-//
-//	score_k = (sum_{j present} z_j v_jk) / (m_ik sqrt(M lambda_k)).
-//
-// Why: write a sample as z = sum_l a_l v_l + e with e orthogonal to the
-// loadings; then the sum over the present markers is sum_l a_l sum_{j
-// present} v_jl v_jk plus noise. When the absent markers are not chosen by
-// their loadings, the cross terms l != k are small next to the diagonal
-// term a_k m_ik, so dividing by m_ik gives a_k without the pull toward 0.
-// This is the diagonal of the least-squares fit of z on the loadings of
-// the present markers, which would need a K x K system per sample (memory
-// N K^2); the diagonal version needs N K numbers and one pass. Dividing by
-// the fraction of markers present instead would be the same on average, but
-// m_ik is exact for the markers that carry a PC and not just their count.
-// RescaleNone keeps the fit's own convention (missing -> 0, no rescaling),
-// under which a sample of the fit gets exactly its fitted score even with
-// missing calls.
-//
-// # Shrinkage
-//
-// When the number of markers is not small next to the number of samples,
-// the sample eigenvectors are noisy estimates of the population axes and
-// the scores of samples outside the fit are shrunk toward 0 relative to the
-// scores of samples inside it (Lee, Zou & Wright 2010, Ann. Stat. 38:3605).
-// ShrinkLee2010 divides the projected scores of each PC above the noise
-// edge by the asymptotic shrinkage factor of that paper, estimated from the
-// spectrum; see LeeShrinkage. Zhang, Dey & Lee 2020 (Bioinformatics
-// 36:3439) avoid the asymptotics by refitting with each new sample added
-// (augmentation and Procrustes); that costs a PCA per sample and is not
-// implemented here.
-
 // Rescale chooses how Project treats model markers absent from a sample.
 type Rescale string
 
@@ -133,6 +79,9 @@ type MatchSummary struct {
 	// Complement: matched after complementing the input's alleles (only
 	// with ProjectOptions.Complement); included in Same or Swapped.
 	Complement int `json:"strand_complemented"`
+	// Monomorphic: input markers without an ALT allele (VCF ALT '.')
+	// matched by their REF; included in Same or Swapped.
+	Monomorphic int `json:"input_monomorphic"`
 	// Ambiguous: the model's alleles are A/T or C/G; dropped unless
 	// KeepAmbiguous (then they are also in Used).
 	Ambiguous        int  `json:"strand_ambiguous"`
@@ -374,13 +323,19 @@ func matchMarkers(model *matrixio.PCAModel, in []matrixio.Marker, opt *ProjectOp
 		ref, alt := strings.ToUpper(m.Ref), strings.ToUpper(m.Alt)
 		cref, okr := complementSNP(ref)
 		calt, oka := complementSNP(alt)
-		found, flip, comp := -1, false, false
+		found, flip, comp, mono := -1, false, false, false
 		for c := f; c >= 0 && found < 0; c = next[c] {
 			switch {
 			case alt == counted[c] && ref == other[c]:
 				found, flip = int(c), false
 			case ref == counted[c] && alt == other[c]:
 				found, flip = int(c), true
+			case alt == "." && ref == other[c]:
+				// Monomorphic in the input (VCF ALT '.'): every call is
+				// REF/REF, zero copies of the counted allele.
+				found, flip, mono = int(c), false, true
+			case alt == "." && ref == counted[c]:
+				found, flip, mono = int(c), true, true
 			case opt.Complement && okr && oka && calt == counted[c] && cref == other[c]:
 				found, flip, comp = int(c), false, true
 			case opt.Complement && okr && oka && cref == counted[c] && calt == other[c]:
@@ -411,6 +366,9 @@ func matchMarkers(model *matrixio.PCAModel, in []matrixio.Marker, opt *ProjectOp
 		}
 		if comp {
 			sum.Complement++
+		}
+		if mono {
+			sum.Monomorphic++
 		}
 	}
 	sum.ModelAbsent = sum.ModelMarkers - sum.Used
@@ -465,12 +423,71 @@ type projMarker struct {
 	inv   float64
 }
 
-// Project computes the scores of the samples of st on the model's PCs (see
-// the package comment on projection above and Projection for the
-// outputs). The store is streamed chunk by chunk; memory is the model, the
-// marker plan and a few N x K blocks. Stores of hard calls (geno2) and of
-// dosages (float32) are both accepted. Input that shares no usable marker
-// with the model is a BadInput error.
+// Project computes the scores of the samples of st on the model's PCs,
+// raw and corrected for shrinkage (see Projection for the outputs). The
+// input's markers are matched to the model's by chromosome (NormalizeChrom),
+// position and alleles (see MatchSummary); input that shares no usable
+// marker with the model, or whose alleles disagree at more than
+// MaxAlleleMismatch of the shared positions, is a BadInput error. The store
+// is streamed chunk by chunk; memory is the model, the marker plan and a
+// few N x K blocks. Stores of hard calls (geno2) and of dosages (float32)
+// are both accepted. Results do not depend on opt.Threads.
+//
+// # Scores
+//
+// The model holds, per marker j, the counted allele, its frequency p_j and
+// scale s_j over the fit's samples, and the loadings v_jk = (Z u_k)_j /
+// sqrt(M lambda_k), which have unit norm over the M model markers. A new
+// sample with genotype g_j (copies of the counted allele) has z_j = (g_j -
+// 2 p_j) / s_j and
+//
+//	score_k = sum_j z_j v_jk / sqrt(M lambda_k).
+//
+// For a sample of the fit, z is its column of Z and the sum is (K u_k)_i /
+// lambda_k = u_ik: projection reproduces the fit's scores (covariates.tsv)
+// exactly.
+//
+// # Markers the new sample lacks
+//
+// A model marker that the input does not have, or where the sample's call
+// is missing, contributes z_j = 0, which pulls the score toward 0 in
+// proportion to the loading mass that is absent. With RescaleMass (the
+// default) the sum is divided, per sample and PC, by the loading mass of
+// the markers present, m_ik = sum_{j present} v_jk^2 (which is 1 when all
+// are present):
+//
+//	score_k = (sum_{j present} z_j v_jk) / (m_ik sqrt(M lambda_k)).
+//
+// Why: write a sample as z = sum_l a_l v_l + e, with a_l = sqrt(M
+// lambda_l) score_l and e orthogonal to the loadings; then the sum over
+// the present markers is sum_l a_l sum_{j present} v_jl v_jk plus noise.
+// When the absent markers are not chosen by their loadings, the cross
+// terms l != k are small next to the diagonal term a_k m_ik, so dividing
+// by m_ik gives a_k without the pull toward 0. This is the diagonal of the
+// least-squares fit of z on the loadings of the present markers, which
+// would need a K x K system per sample (memory N K^2); the diagonal
+// version needs N K numbers and one pass. Dividing by the fraction of
+// markers present instead would be the same on average, but m_ik weighs
+// each absent marker by how much it carries the PC, so losing markers that
+// do not matter for a PC costs that PC nothing. The price of fewer markers
+// is noise: for a fraction f of the markers, the scores of the fit's own
+// samples move by about sqrt(N (1 - f) / (f M lambda_k)) of their RMS
+// (derived and checked in the tests). RescaleNone keeps the fit's own
+// convention (missing -> 0, no rescaling), under which a sample of the fit
+// gets exactly its fitted score even with missing calls.
+//
+// # Shrinkage
+//
+// When the number of markers is not small next to the number of samples,
+// the sample eigenvectors are noisy estimates of the population axes and
+// the scores of samples outside the fit are shrunk toward 0 relative to the
+// scores of samples inside it (Lee, Zou & Wright 2010, Ann. Stat. 38:3605).
+// ShrinkLee2010 divides the projected scores of each PC above the noise
+// edge by the asymptotic shrinkage factor of that paper, estimated from the
+// spectrum; see LeeShrinkage. Zhang, Dey & Lee 2020 (Bioinformatics
+// 36:3439) avoid the asymptotics by refitting with each new sample added
+// (augmentation and Procrustes, from memory); that costs a PCA per sample
+// and is not implemented here.
 func Project(ctx context.Context, model *matrixio.PCAModel, st *matrixio.Store, opt ProjectOptions) (*Projection, error) {
 	if opt.MaxAlleleMismatch <= 0 {
 		opt.MaxAlleleMismatch = 0.5

@@ -10,7 +10,6 @@ import (
 
 	"github.com/clinal/clinal/matrixio"
 	"github.com/clinal/clinal/matrixio/synth"
-	"github.com/clinal/clinal/qc"
 )
 
 // runDemo runs the whole job on the invented Meridian Archipelago cohort:
@@ -54,8 +53,14 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	fmt.Fprintf(e.stdout, "demo: imported %d markers (%d records) into %s\n", sum.Markers, sum.Records, store)
-	o := &pcaOptions{out: filepath.Join(*out, "meridian"), k: 10, seed: *seed, tol: 1e-6, maxPasses: 30,
-		threads: *threads, scaling: "patterson", pcPrefix: "PC", labels: labels, qc: qc.DefaultOptions()}
+	// Every pca default, as `clinal pca` would take them.
+	o := &pcaOptions{k: 10}
+	pfs := flag.NewFlagSet("pca", flag.ContinueOnError)
+	pcaFlags(pfs, o)
+	if err := pfs.Parse(nil); err != nil {
+		return err
+	}
+	o.out, o.seed, o.threads, o.labels = filepath.Join(*out, "meridian"), *seed, *threads, labels
 	res, err := doPCA(ctx, e, store, o)
 	if err != nil {
 		return err

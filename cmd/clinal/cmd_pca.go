@@ -7,6 +7,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"runtime"
@@ -49,6 +50,8 @@ type pcaOptions struct {
 	maxAutoK     int
 	outlierSD    float64
 	outlierIters int
+	outlierPCs   int
+	flagColumn   bool
 }
 
 func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
@@ -82,6 +85,10 @@ func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
 	fs.StringVar(&o.qcPrefix, "qc", "", "reuse the kept lists of a finished clinal qc run (PREFIX)")
 	fs.BoolVar(&o.noLoadings, "no-loadings", false, "skip the loadings file (saves half a pass)")
 	fs.BoolVar(&o.noResume, "no-resume", false, "ignore a checkpoint left by an interrupted run with the same inputs")
+	fs.Float64Var(&o.outlierSD, "outlier-sd", randsvd.DefaultOutlierSD, "remove samples beyond this many SDs on any of the top --outlier-pcs PCs and recompute (0: off)")
+	fs.IntVar(&o.outlierIters, "outlier-rounds", randsvd.DefaultOutlierRounds, "most rounds of outlier removal")
+	fs.IntVar(&o.outlierPCs, "outlier-pcs", randsvd.DefaultOutlierPCs, "PCs checked for outliers")
+	fs.BoolVar(&o.flagColumn, "flag-column", false, "add a last covariates column 'outlier' (yes: placed by projection after removal)")
 	fs.StringVar(&o.tw, "tw", "auto", "Tracy-Widom test: auto, exact (trace(K^2) in N/32 extra passes), approx (n' = M) or off")
 	addFilterFlags(fs, &o.qc)
 }
@@ -231,12 +238,24 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		}
 	}
 	popt.Checkpoint = func(s *randsvd.State) error { return randsvd.WriteCheckpoint(ckpt, key, s) }
-	res, op, err := randsvd.RunPCA(ctx, st, popt)
+	var res *randsvd.PCAResult
+	var op *randsvd.Operator
+	var outl outlierResult
+	if o.outlierSD > 0 {
+		res, op, outl.removed, outl.projected, err = randsvd.RemoveOutliers(ctx, st, popt,
+			randsvd.OutlierOptions{SD: o.outlierSD, Rounds: o.outlierIters, PCs: o.outlierPCs})
+	} else {
+		res, op, err = randsvd.RunPCA(ctx, st, popt)
+	}
 	if bar != nil {
 		bar.Finish()
 	}
 	if err != nil {
 		return nil, err
+	}
+	if len(outl.removed) > 0 {
+		fmt.Fprintf(e.stderr, "pca: removed %d outlier samples (beyond %g SD on the top %d PCs); their scores come from projection\n",
+			len(outl.removed), o.outlierSD, o.outlierPCs)
 	}
 	if o.autoK {
 		k := max(1, randsvd.SignificantCount(res.TW, o.twAlpha))
@@ -244,7 +263,7 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		res.Truncate(k)
 		o.k = k
 	}
-	out, err := writePCAOutputs(ctx, e, st, op, res, sel, o, ph, t0)
+	out, err := writePCAOutputsWith(ctx, e, st, op, res, sel, o, ph, t0, &outl)
 	if err == nil {
 		os.Remove(ckpt)
 	}
@@ -277,6 +296,16 @@ func checkpointKey(st *matrixio.Store, sel *qc.Selection, o *pcaOptions) string 
 // cluster driver calls it too, so both paths give the same files.
 func writePCAOutputs(ctx context.Context, e *env, st *matrixio.Store, op *randsvd.Operator, res *randsvd.PCAResult,
 	sel *qc.Selection, o *pcaOptions, ph *phaseTimes, t0 time.Time) (*pcaOutcome, error) {
+	return writePCAOutputsWith(ctx, e, st, op, res, sel, o, ph, t0, nil)
+}
+
+// writePCAOutputsWith is writePCAOutputs with the result of outlier
+// removal (nil: none was run or none found).
+func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *randsvd.Operator, res *randsvd.PCAResult,
+	sel *qc.Selection, o *pcaOptions, ph *phaseTimes, t0 time.Time, outl *outlierResult) (*pcaOutcome, error) {
+	if outl == nil {
+		outl = &outlierResult{}
+	}
 	out := &pcaOutcome{}
 	ph.start("loadings")
 	if !o.noLoadings {
@@ -286,16 +315,36 @@ func writePCAOutputs(ctx context.Context, e *env, st *matrixio.Store, op *randsv
 		out.files = append(out.files, o.out+".loadings.tsv.gz")
 	}
 	ph.start("write")
-	ids := make([]string, len(res.Samples))
+	// Covariate rows in store order: the samples of the fit, and the
+	// outliers placed on the same axes by projection.
+	row := map[int]int{}
 	for r, i := range res.Samples {
-		ids[r] = st.Samples()[i]
+		row[i] = r
+	}
+	var ids, flags []string
+	var scoreRows [][]float64
+	for i, id := range st.Samples() {
+		if r, ok := row[i]; ok {
+			ids, scoreRows, flags = append(ids, id), append(scoreRows, res.Scores.RawRowView(r)), append(flags, "no")
+		} else if p, ok := outl.projected[i]; ok {
+			ids, scoreRows, flags = append(ids, id), append(scoreRows, p), append(flags, "yes")
+		}
 	}
 	copt := matrixio.CovariateOptions{TwoIDColumns: o.twoIDs, Prefix: o.pcPrefix}
 	if o.idHeaders != "" {
 		copt.IDHeaders = strings.Split(o.idHeaders, ",")
 	}
-	if err := matrixio.WriteCovariates(o.out+".covariates.tsv", ids, o.k, res.Scores.At, copt); err != nil {
+	if o.flagColumn {
+		copt.FlagHeader, copt.Flags = "outlier", flags
+	}
+	if err := matrixio.WriteCovariates(o.out+".covariates.tsv", ids, o.k, func(i, j int) float64 { return scoreRows[i][j] }, copt); err != nil {
 		return nil, err
+	}
+	if o.outlierSD > 0 {
+		if err := writeOutliers(o.out+".outliers.tsv", st, outl); err != nil {
+			return nil, err
+		}
+		out.files = append(out.files, o.out+".outliers.tsv")
 	}
 	rows := spectrumRows(res)
 	if err := matrixio.WriteSpectrum(o.out+".spectrum.tsv", rows); err != nil {
@@ -303,6 +352,7 @@ func writePCAOutputs(ctx context.Context, e *env, st *matrixio.Store, op *randsv
 	}
 	ph.stop()
 	rep := buildReport(st, o, res, sel, ph, time.Since(t0))
+	rep.Outliers = outlierJSON(st, outl)
 	if err := matrixio.WriteJSON(o.out+".report.json", rep); err != nil {
 		return nil, err
 	}
@@ -350,8 +400,8 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 	return lw.Close()
 }
 
-// report is PREFIX.report.json.
-type report struct {
+// pcaReportJSON is PREFIX.report.json.
+type pcaReportJSON struct {
 	Version       string             `json:"version"`
 	Command       string             `json:"command"`
 	Input         reportInput        `json:"input"`
@@ -386,6 +436,40 @@ type report struct {
 	TraceSq       *float64           `json:"trace_sq_exact,omitempty"`
 	TWStatistics  []*float64         `json:"tw_statistics"`
 	TWP           []*float64         `json:"tw_p"`
+	Outliers      []outlierRow       `json:"outliers"`
+}
+
+// outlierResult carries what outlier removal found to the writers.
+type outlierResult struct {
+	removed   []randsvd.Outlier
+	projected map[int][]float64
+}
+
+type outlierRow struct {
+	SampleID string  `json:"sample_id"`
+	Round    int     `json:"round"`
+	PC       int     `json:"pc"`
+	SDs      float64 `json:"sds"`
+}
+
+func outlierJSON(st *matrixio.Store, o *outlierResult) []outlierRow {
+	rows := []outlierRow{}
+	for _, r := range o.removed {
+		rows = append(rows, outlierRow{SampleID: st.Samples()[r.Sample], Round: r.Round, PC: r.PC, SDs: r.Z})
+	}
+	return rows
+}
+
+// writeOutliers writes PREFIX.outliers.tsv: sample_id, the round and PC
+// that removed it and how many SDs out it was.
+func writeOutliers(path string, st *matrixio.Store, o *outlierResult) error {
+	return matrixio.WriteFileAtomic(path, func(w io.Writer) error {
+		fmt.Fprintln(w, "sample_id\tround\tpc\tsds")
+		for _, r := range outlierJSON(st, o) {
+			fmt.Fprintf(w, "%s\t%d\t%d\t%s\n", r.SampleID, r.Round, r.PC, matrixio.FormatFloat(r.SDs))
+		}
+		return nil
+	})
 }
 
 // jsonNum maps NaN and infinities (which JSON cannot hold) to null.
@@ -421,8 +505,8 @@ type reportPhase struct {
 	CPUSeconds  float64 `json:"cpu_seconds"`
 }
 
-func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel *qc.Selection, ph *phaseTimes, wall time.Duration) *report {
-	r := &report{Version: version, Command: "pca",
+func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel *qc.Selection, ph *phaseTimes, wall time.Duration) *pcaReportJSON {
+	r := &pcaReportJSON{Version: version, Command: "pca",
 		Input: reportInput{Path: st.Path(), Bytes: st.Size(), Fingerprint: st.Fingerprint(),
 			Samples: st.NumSamples(), Markers: st.NumMarkers(), Codec: string(st.Codec())},
 		SamplesUsed: len(res.Samples), MarkersUsed: res.Markers, K: o.k, BlockSize: res.BlockSize,
