@@ -67,6 +67,7 @@ type MemoryPlan struct {
 	SolverBytes  int64 `json:"solver_bytes"`
 	ChunkBytes   int64 `json:"chunk_buffer_bytes"`
 	TableBytes   int64 `json:"table_bytes"`
+	KernelBytes  int64 `json:"kernel_bytes"`
 	TotalBytes   int64 `json:"total_bytes"`
 	LimitBytes   int64 `json:"limit_bytes"`
 	MinimumBytes int64 `json:"minimum_bytes"`
@@ -96,8 +97,21 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	if st.Codec() == matrixio.CodecFloat32 {
 		p.ChunkBytes += int64(st.ChunkMarkers()) * int64(n) * 8 // standardized block
 	}
-	p.TableBytes = int64(st.NumMarkers())*160 + int64(n)*64
-	fixed := p.SolverBytes + p.TableBytes + runtimeOverhead
+	// Marker and sample tables: the store's, the selection's and the
+	// operator's (about 250 bytes per marker measured, with margin).
+	p.TableBytes = int64(st.NumMarkers())*300 + int64(n)*96
+	// Kernel buffers: the gathered block of packed rows, the per-segment
+	// partial products and the group tables of each thread.
+	lp := int64((l + 3) &^ 3)
+	rb := int64(st.RowBytes())
+	target := int64(max(1, min(2048, int(max(64<<20, 2*int64(n)*lp*8)/rb))))
+	blockM := max(target, int64(st.ChunkMarkers()))
+	nseg := int64(len(segments(n, 4)) - 1)
+	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*4*256*lp*8
+	if st.Codec() == matrixio.CodecGeno2 && int64(st.ChunkMarkers()) < target {
+		p.KernelBytes += target * rb
+	}
+	fixed := p.SolverBytes + p.TableBytes + p.KernelBytes + runtimeOverhead
 	p.MinimumBytes = fixed + 2*p.ChunkBytes
 	p.Buffers = max(2, threads+1)
 	if limit > 0 {

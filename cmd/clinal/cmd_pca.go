@@ -199,6 +199,13 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		return nil, err
 	}
 	ph.start("solve")
+	if o.memory == 0 {
+		// No promise asked: still keep the heap near the plan, so peak
+		// memory follows the model (and does not drift with garbage).
+		if plan, err := randsvd.PlanMemory(st, o.k, o.oversample, o.threads, 0); err == nil {
+			debug.SetMemoryLimit(plan.TotalBytes * 5 / 4)
+		}
+	}
 	var bar *progressbar.ProgressBar
 	popt := randsvd.PCAOptions{K: o.k, Oversample: o.oversample, Tol: o.tol, VarTol: o.varTol, MaxPasses: o.maxPasses,
 		Seed: o.seed, Threads: o.threads, Memory: int64(o.memory), Scaling: randsvd.Scaling(o.scaling),
