@@ -253,24 +253,33 @@ func ExactTraceSq(ctx context.Context, a Applier, width int) (float64, error) {
 }
 
 func tracyWidom(ctx context.Context, op *Operator, opt PCAOptions, out *PCAResult) error {
+	return AddTracyWidom(ctx, op, op.Dim(), op.Markers(), opt.TW, opt.TWExactMax, 32, out)
+}
+
+// AddTracyWidom adds the Tracy-Widom test of the eigenvalues to out (the
+// TW, TWMethod and TraceSq fields) for n samples and m markers. mode is as
+// PCAOptions.TW ("auto" is exact up to exactMax samples, default 4000);
+// the exact trace(K^2) applies a, width columns at a time. RunPCA and the
+// cluster driver (whose a sums shard partials) share it.
+func AddTracyWidom(ctx context.Context, a Applier, n, m int, mode string, exactMax, width int, out *PCAResult) error {
 	out.TraceSq = math.NaN()
-	mode := opt.TW
-	if opt.TWExactMax <= 0 {
-		opt.TWExactMax = 4000
+	if exactMax <= 0 {
+		exactMax = 4000
 	}
+	requested := mode
 	if mode == "" || mode == "auto" {
 		mode = "approx"
-		if op.Dim() <= opt.TWExactMax {
+		if n <= exactMax {
 			mode = "exact"
 		}
 	}
-	in := TWInput{Eigenvalues: out.Eigenvalues, Trace: out.Trace, Samples: op.Dim(), Markers: op.Markers()}
+	in := TWInput{Eigenvalues: out.Eigenvalues, Trace: out.Trace, Samples: n, Markers: m}
 	switch mode {
 	case "off":
 		out.TWMethod = "off"
 		return nil
 	case "exact":
-		ts, err := ExactTraceSq(ctx, op, 32)
+		ts, err := ExactTraceSq(ctx, a, width)
 		if err != nil {
 			return err
 		}
@@ -279,10 +288,10 @@ func tracyWidom(ctx context.Context, op *Operator, opt PCAOptions, out *PCAResul
 	case "approx":
 		out.TWMethod = "assumed M"
 	default:
-		return matrixio.BadInput("--tw %q: want auto, exact, approx or off", opt.TW)
+		return matrixio.BadInput("--tw %q: want auto, exact, approx or off", requested)
 	}
-	if len(in.Eigenvalues) > op.Dim()-1 {
-		in.Eigenvalues = in.Eigenvalues[:op.Dim()-1]
+	if len(in.Eigenvalues) > n-1 {
+		in.Eigenvalues = in.Eigenvalues[:n-1]
 	}
 	res, err := TracyWidom(in)
 	if err != nil {

@@ -396,55 +396,18 @@ func runDriver(ctx context.Context, e *env, opt *driverOptions) (*clusterOutcome
 	return out, nil
 }
 
-// twExactMax and traceSqWidth: the Tracy-Widom test's default of
-// randsvd.RunPCA ("auto" is exact up to 4000 samples) and the block width
-// of the exact trace(K^2) passes. Each of those passes is an srun step, so
-// they go 128 columns at a time (randsvd.RunPCA uses 32 in one process):
-// the sum is the same up to rounding.
-const (
-	twExactMax   = 4000
-	traceSqWidth = 128
-)
+// traceSqWidth is the block width of the exact trace(K^2) passes. Each of
+// those passes is an srun step, so they go 128 columns at a time
+// (randsvd.RunPCA uses 32 in one process): the sum is the same up to
+// rounding.
+const traceSqWidth = 128
 
 // clusterTracyWidom adds the Tracy-Widom test to the result as
 // randsvd.RunPCA does, computing trace(K^2), when exact, with sharded
 // passes (resumable like the solver's: their partials stay until done).
 func clusterTracyWidom(ctx context.Context, a *clusterApplier, op *randsvd.Operator, m *clusterManifest, pr *randsvd.PCAResult) error {
-	pr.TraceSq = math.NaN()
-	mode := m.PCA.TW
-	if mode == "" || mode == "auto" {
-		mode = "approx"
-		if op.Dim() <= twExactMax {
-			mode = "exact"
-		}
-	}
-	in := randsvd.TWInput{Eigenvalues: pr.Eigenvalues, Trace: pr.Trace, Samples: op.Dim(), Markers: op.Markers()}
-	switch mode {
-	case "off":
-		pr.TWMethod = "off"
-		return nil
-	case "exact":
-		a.phase = "trace-sq"
-		ts, err := randsvd.ExactTraceSq(ctx, a, traceSqWidth)
-		if err != nil {
-			return err
-		}
-		pr.TraceSq, in.TraceSq = ts, ts
-		pr.TWMethod = "exact trace(K^2)"
-	case "approx":
-		pr.TWMethod = "assumed M"
-	default:
-		return matrixio.BadInput("--tw %q: want auto, exact, approx or off", m.PCA.TW)
-	}
-	if len(in.Eigenvalues) > op.Dim()-1 {
-		in.Eigenvalues = in.Eigenvalues[:op.Dim()-1]
-	}
-	res, err := randsvd.TracyWidom(in)
-	if err != nil {
-		return fmt.Errorf("tracy-widom: %w", err)
-	}
-	pr.TW = res
-	return nil
+	a.phase = "trace-sq"
+	return randsvd.AddTracyWidom(ctx, a, op.Dim(), op.Markers(), m.PCA.TW, 0, traceSqWidth, pr)
 }
 
 func readTrace(d runDir) (float64, error) {
