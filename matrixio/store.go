@@ -102,6 +102,27 @@ type Counts struct {
 	Sum, SumSq                   float64
 }
 
+// AddFloat counts one float value: NaN is missing; otherwise it adds to
+// Sum and SumSq and to the genotype class of its nearest integer (<= 0
+// hom-ref, 1 het, >= 2 hom-alt), as the float writer does at import.
+func (c *Counts) AddFloat(v float32) {
+	if v != v {
+		c.Missing++
+		return
+	}
+	d := float64(v)
+	c.Sum += d
+	c.SumSq += d * d
+	switch r := math.Round(d); {
+	case r <= 0:
+		c.HomRef++
+	case r == 1:
+		c.Het++
+	default:
+		c.HomAlt++
+	}
+}
+
 // Called returns the number of non-missing calls.
 func (c Counts) Called() uint32 { return c.HomRef + c.Het + c.HomAlt }
 

@@ -288,25 +288,13 @@ func (w *Writer) AddFloats(m Marker, x []float32) error {
 	row := w.cur[start:]
 	for i, v := range x {
 		binary.LittleEndian.PutUint32(row[4*i:], math.Float32bits(v))
-		if v != v {
-			c.Missing++
-			w.sampleMiss[i]++
-			continue
-		}
 		if math.IsInf(float64(v), 0) {
 			return fmt.Errorf("marker %s:%d: infinite value for sample %d", m.Chrom, m.Pos, i+1)
 		}
-		d := float64(v)
-		c.Sum += d
-		c.SumSq += d * d
-		switch r := math.Round(d); {
-		case r <= 0:
-			c.HomRef++
-		case r == 1:
-			c.Het++
-		default:
-			c.HomAlt++
+		if v != v {
+			w.sampleMiss[i]++
 		}
+		c.AddFloat(v)
 	}
 	w.appendMarker(m, c)
 	return w.markerDone()

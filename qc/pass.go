@@ -2,7 +2,6 @@ package qc
 
 import (
 	"context"
-	"math"
 	"sort"
 
 	"golang.org/x/sync/errgroup"
@@ -280,22 +279,7 @@ func countCodes(codes []byte, kept []int) matrixio.Counts {
 func countFloats(vals []float32, kept []int) matrixio.Counts {
 	var c matrixio.Counts
 	for _, i := range kept {
-		v := vals[i]
-		if v != v {
-			c.Missing++
-			continue
-		}
-		d := float64(v)
-		c.Sum += d
-		c.SumSq += d * d
-		switch r := math.Round(d); {
-		case r <= 0:
-			c.HomRef++
-		case r == 1:
-			c.Het++
-		default:
-			c.HomAlt++
-		}
+		c.AddFloat(vals[i])
 	}
 	return c
 }

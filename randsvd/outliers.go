@@ -314,22 +314,7 @@ func countCodeRow(row []byte, idx []int) matrixio.Counts {
 func countFloatRow(row []byte, idx []int) matrixio.Counts {
 	var c matrixio.Counts
 	for _, i := range idx {
-		v := math.Float32frombits(uint32(row[4*i]) | uint32(row[4*i+1])<<8 | uint32(row[4*i+2])<<16 | uint32(row[4*i+3])<<24)
-		if v != v {
-			c.Missing++
-			continue
-		}
-		d := float64(v)
-		c.Sum += d
-		c.SumSq += d * d
-		switch r := math.Round(d); {
-		case r <= 0:
-			c.HomRef++
-		case r == 1:
-			c.Het++
-		default:
-			c.HomAlt++
-		}
+		c.AddFloat(math.Float32frombits(uint32(row[4*i]) | uint32(row[4*i+1])<<8 | uint32(row[4*i+2])<<16 | uint32(row[4*i+3])<<24))
 	}
 	return c
 }
