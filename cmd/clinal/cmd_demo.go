@@ -69,5 +69,6 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	for _, f := range append([]string{vcf, labels, store}, res.files...) {
 		fmt.Fprintf(e.stdout, "  %s\n", f)
 	}
+	fmt.Fprintf(e.stdout, "demo: report (open in a browser): %s\n", o.out+".report.html")
 	return nil
 }

@@ -17,6 +17,7 @@ import (
 	"syscall"
 	"time"
 
+	htmlreport "github.com/clinal/clinal/cmd/clinal/report"
 	"github.com/clinal/clinal/matrixio"
 	"github.com/clinal/clinal/qc"
 	"github.com/clinal/clinal/randsvd"
@@ -130,7 +131,20 @@ func cpuSeconds() float64 {
 	return float64(ru.Utime.Sec+ru.Stime.Sec) + float64(ru.Utime.Usec+ru.Stime.Usec)/1e6
 }
 
+// peakRSS returns the process's peak resident set: VmHWM from
+// /proc/self/status where there is one (getrusage's ru_maxrss also counts
+// the image the process was exec'ed from, e.g. a large parent), else
+// ru_maxrss.
 func peakRSS() int64 {
+	if b, err := os.ReadFile("/proc/self/status"); err == nil {
+		for _, line := range strings.Split(string(b), "\n") {
+			if f := strings.Fields(line); len(f) >= 2 && f[0] == "VmHWM:" {
+				if kb, err := strconv.ParseInt(f[1], 10, 64); err == nil {
+					return kb * 1024
+				}
+			}
+		}
+	}
 	var ru syscall.Rusage
 	if syscall.Getrusage(syscall.RUSAGE_SELF, &ru) != nil {
 		return 0
@@ -358,6 +372,11 @@ func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *ra
 		return nil, err
 	}
 	ph.stop()
+	html, err := writeHTMLReport(o, st, res, ids, scoreRows, sel, ph)
+	if err != nil {
+		return nil, err
+	}
+	out.files = append(out.files, html...)
 	rep := buildReport(st, o, res, sel, ph, time.Since(t0))
 	rep.Outliers = outlierJSON(st, outl)
 	if err := matrixio.WriteJSON(o.out+".report.json", rep); err != nil {
@@ -553,4 +572,48 @@ func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel 
 		r.Phases = append(r.Phases, reportPhase{Name: n, WallSeconds: ph.wall[n], CPUSeconds: ph.cpu[n]})
 	}
 	return r
+}
+
+// writeHTMLReport writes PREFIX.report.html (and its plot copies) for the
+// samples of the covariate file, coloured by --labels when given.
+func writeHTMLReport(o *pcaOptions, st *matrixio.Store, res *randsvd.PCAResult, ids []string, scores [][]float64,
+	sel *qc.Selection, ph *phaseTimes) ([]string, error) {
+	var groups []string
+	note := ""
+	if o.labels != "" {
+		g, ls, err := htmlreport.ReadLabelsStats(o.labels, ids)
+		if err != nil {
+			return nil, err
+		}
+		groups, note = g, ls.String()
+	}
+	twp := make([]float64, len(res.Eigenvalues))
+	for j := range twp {
+		twp[j] = math.NaN()
+		if j < len(res.TW) {
+			twp[j] = res.TW[j].P
+		}
+	}
+	var phases []htmlreport.Phase
+	for _, n := range ph.order {
+		phases = append(phases, htmlreport.Phase{Name: n, Wall: ph.wall[n], CPU: ph.cpu[n]})
+	}
+	sk, mk := 0, 0
+	for _, k := range sel.SampleKept {
+		if k {
+			sk++
+		}
+	}
+	for _, k := range sel.MarkerKept {
+		if k {
+			mk++
+		}
+	}
+	in := &htmlreport.PCAInput{Title: "clinal PCA: " + st.Path(), SampleIDs: ids, Groups: groups, LabelsNote: note,
+		Scores: scores, Eigenvalues: res.Eigenvalues, Residuals: res.Residuals, Converged: res.Converged, TWP: twp,
+		Trace: res.Trace, MPEdge: res.MPEdge, Passes: res.Passes, StopReason: res.StopReason,
+		QC: []htmlreport.QCRow{{Name: "samples", Removed: len(sel.SampleKept) - sk, Kept: sk},
+			{Name: "markers", Removed: len(sel.MarkerKept) - mk, Kept: mk}},
+		Timing: phases, PeakRSS: peakRSS(), Samples: len(res.Samples), Markers: res.Markers, K: o.k}
+	return htmlreport.WritePCAReport(o.out+".report.html", in)
 }
