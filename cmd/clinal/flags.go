@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -13,24 +14,40 @@ import (
 // parseArgs parses flags that may appear before, between or after the
 // positional arguments (clinal pca STORE -k 10 -o out) and returns the
 // positional ones. A lone "-" is positional (stdin).
-func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
+func parseArgs(fs *flag.FlagSet, args []string) (pos []string, err error) {
 	fs.SetOutput(io.Discard)
-	var pos []string
+	var rest []string
+	for i, a := range args {
+		if a == "--" {
+			args, rest = args[:i], args[i+1:]
+			break
+		}
+	}
+	defer func() { pos = append(pos, rest...) }()
 	for {
 		if err := fs.Parse(args); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				var b strings.Builder
+				fmt.Fprintf(&b, "usage of clinal %s:\n", fs.Name())
+				fs.SetOutput(&b)
+				fs.PrintDefaults()
+				return nil, &helpRequest{text: b.String()}
+			}
 			return nil, usage("%s: %v", fs.Name(), err)
 		}
 		args = fs.Args()
 		if len(args) == 0 {
 			return pos, nil
 		}
-		if args[0] == "--" {
-			return append(pos, args[1:]...), nil
-		}
 		pos = append(pos, args[0])
 		args = args[1:]
 	}
 }
+
+// helpRequest is returned for -h/--help: the command prints text and exits 0.
+type helpRequest struct{ text string }
+
+func (h *helpRequest) Error() string { return "help requested" }
 
 // usage makes a bad-usage error (exit code 2).
 func usage(format string, a ...any) error { return matrixio.BadInput(format, a...) }

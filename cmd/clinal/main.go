@@ -92,6 +92,11 @@ func run(ctx context.Context, e *env, args []string) int {
 	if err == nil {
 		return 0
 	}
+	var help *helpRequest
+	if errors.As(err, &help) {
+		fmt.Fprint(e.stdout, help.text)
+		return 0
+	}
 	if errors.Is(err, context.Canceled) || ctx.Err() != nil {
 		code := 130
 		var in interrupted
