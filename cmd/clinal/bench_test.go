@@ -387,7 +387,9 @@ func TestBenchRun(t *testing.T) {
 		cpu, _ := strconv.ParseFloat(c[4], 64)
 		rss, _ := strconv.ParseInt(c[5], 10, 64)
 		passes, _ := strconv.Atoi(c[6])
-		if rep.Wall > wall+0.002 || rep.CPU > cpu+0.002 || rep.PeakRSS > rss || passes != rep.Passes {
+		// The child reads its peak from /proc/self/status (VmHWM), the parent
+		// from getrusage: the two page counts may differ by a few pages.
+		if rep.Wall > wall+0.002 || rep.CPU > cpu+0.002 || rep.PeakRSS > rss+rss/100+(1<<20) || passes != rep.Passes {
 			t.Errorf("%s: child says wall %.3f CPU %.3f RSS %d passes %d; parent measured %.3f %.3f %d %d",
 				size, rep.Wall, rep.CPU, rep.PeakRSS, rep.Passes, wall, cpu, rss, passes)
 		}
