@@ -206,6 +206,12 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		return nil, err
 	}
 	defer st.Close()
+	if o.memory > 0 {
+		// Refuse an impossible promise before any pass (QC included).
+		if _, err := randsvd.PlanMemory(st, o.k, o.oversample, o.threads, int64(o.memory)); err != nil {
+			return nil, err
+		}
+	}
 	ph.start("qc")
 	o.qc.Threads = o.threads
 	sel, err := qcSelection(ctx, o.fs, st, o.qc, o.qcPrefix)
