@@ -71,18 +71,35 @@ func denseMarker(id string, index int) Marker {
 	return Marker{Chrom: "0", Pos: int64(index), ID: id, Ref: "N", Alt: "N"}
 }
 
-// denseLines reads lines of any length, without the newline (and '\r').
+// denseMaxHeader bounds the header line of a dense matrix (10^7 IDs of 25
+// bytes).
+const denseMaxHeader = 256 << 20
+
+// denseMaxRow bounds a data row of cols values: 1 MiB for the ID plus 64
+// bytes a value, above any decimal rendering of a float.
+func denseMaxRow(cols int) int { return 1<<20 + 64*cols }
+
+// denseLines reads lines up to max bytes (denseMaxHeader when 0), without
+// the newline (and '\r').
 type denseLines struct {
 	r    *bufio.Reader
 	in   *vcfInput
 	buf  []byte
 	line int
+	max  int
 }
 
 func (d *denseLines) next() ([]byte, error) {
 	d.buf = d.buf[:0]
+	limit := d.max
+	if limit <= 0 {
+		limit = denseMaxHeader
+	}
 	for {
 		b, err := d.r.ReadSlice('\n')
+		if len(d.buf)+len(b) > limit {
+			return nil, BadInput("%s:%d: line longer than %d MiB (no line ends?)", d.in.name, d.line+1, limit>>20)
+		}
 		d.buf = append(d.buf, b...)
 		if err == bufio.ErrBufferFull {
 			continue
@@ -161,6 +178,7 @@ func denseHeader(d *denseLines, kind string) ([]string, error) {
 	for i, b := range f[1:] {
 		ids[i] = string(b)
 	}
+	d.max = denseMaxRow(len(ids))
 	return ids, nil
 }
 
@@ -185,6 +203,9 @@ func ImportDense(ctx context.Context, inputs []string, out string, opt DenseOpti
 	}
 	if !opt.MarkersAsRows && len(inputs) > 1 {
 		return nil, BadInput("import --matrix: one file with samples as rows, or several with --markers-as-rows")
+	}
+	if err := CheckOutputPath(out); err != nil {
+		return nil, err
 	}
 	if opt.MemoryBytes <= 0 {
 		opt.MemoryBytes = 64 << 20
@@ -243,7 +264,7 @@ func denseMarkerRows(ctx context.Context, inputs []string, out string, opt *Dens
 	var x []float32
 	var g []byte
 	for _, path := range inputs {
-		in, err := vcfOpen(path, opt.Stdin)
+		in, err := vcfOpen(ctx, path, opt.Stdin)
 		if err != nil {
 			return fail(err)
 		}
@@ -307,7 +328,7 @@ func denseMarkerRows(ctx context.Context, inputs []string, out string, opt *Dens
 }
 
 func denseSampleRows(ctx context.Context, path, out string, opt *DenseOptions, sum *DenseSummary) error {
-	in, err := vcfOpen(path, opt.Stdin)
+	in, err := vcfOpen(ctx, path, opt.Stdin)
 	if err != nil {
 		return err
 	}

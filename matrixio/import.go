@@ -1,6 +1,7 @@
 package matrixio
 
 import (
+	"bufio"
 	"bytes"
 	"context"
 	"errors"
@@ -119,6 +120,9 @@ func ImportVCF(ctx context.Context, inputs []string, out string, opt ImportOptio
 	if stdin > 1 {
 		return nil, BadInput("import: standard input ('-') named more than once")
 	}
+	if err := CheckOutputPath(out); err != nil {
+		return nil, err
+	}
 	sum := &ImportSummary{Output: out, Field: opt.Field, Codec: CodecGeno2}
 	if opt.Field == "DS" {
 		sum.Codec = CodecFloat32
@@ -136,7 +140,7 @@ func ImportVCF(ctx context.Context, inputs []string, out string, opt ImportOptio
 		if err := ctx.Err(); err != nil {
 			return fail(err)
 		}
-		in, err := vcfOpen(path, opt.Stdin)
+		in, err := vcfOpen(ctx, path, opt.Stdin)
 		if err != nil {
 			return fail(err)
 		}
@@ -195,6 +199,36 @@ func impSameSamples(firstName string, first []string, name string, line int, s [
 	return nil
 }
 
+// vcfMaxHeaderLine bounds one VCF header line (meta lines are short; a
+// #CHROM line of 10^7 samples with 25-byte IDs takes 250 MB), so an input
+// without line ends cannot make the reader buffer it all.
+const vcfMaxHeaderLine = 256 << 20
+
+// vcfMaxLine bounds one data line for n samples: 64 MiB for the fixed
+// columns plus 1 KiB per sample column, far above any real FORMAT (a
+// "0|1:0.998,0.002,0:12,3:99" column is about 25 bytes). Lines are held
+// whole only when they straddle two parse groups.
+func vcfMaxLine(n int) int { return 64<<20 + 1024*n }
+
+// errLongLine is returned by readLineMax for a line over its limit.
+var errLongLine = errors.New("line too long")
+
+// readLineMax reads one line like ReadBytes('\n') but returns errLongLine
+// once the line exceeds limit bytes, before buffering more of it.
+func readLineMax(r *bufio.Reader, limit int) ([]byte, error) {
+	var line []byte
+	for {
+		b, err := r.ReadSlice('\n')
+		if len(line)+len(b) > limit {
+			return nil, errLongLine
+		}
+		line = append(line, b...)
+		if err != bufio.ErrBufferFull {
+			return line, err
+		}
+	}
+}
+
 // vcfFixed are the eight mandatory #CHROM header columns.
 var vcfFixed = [...]string{"#CHROM", "POS", "ID", "REF", "ALT", "QUAL", "FILTER", "INFO"}
 
@@ -203,7 +237,10 @@ var vcfFixed = [...]string{"#CHROM", "POS", "ID", "REF", "ALT", "QUAL", "FILTER"
 func readVCFHeader(in *vcfInput) ([]string, int, error) {
 	line := 0
 	for {
-		b, err := in.text.ReadBytes('\n')
+		b, err := readLineMax(in.text, vcfMaxHeaderLine)
+		if errors.Is(err, errLongLine) {
+			return nil, line, BadInput("%s:%d: header line longer than %d MiB (not a VCF file, or no line ends?)", in.name, line+1, vcfMaxHeaderLine>>20)
+		}
 		if len(b) == 0 && err == io.EOF {
 			if line == 0 {
 				return nil, 0, BadInput("%s: empty input (not a VCF file)", in.name)
@@ -479,6 +516,9 @@ func impConsume(ctx context.Context, in *vcfInput, hlines int, w *Writer, opt *I
 		}
 		if !g.hasNL {
 			carry = append(carry, g.data...)
+			if len(carry) > vcfMaxLine(n) {
+				return BadInput("%s:%d: line longer than %d MiB for %d samples (no line ends?)", in.name, L+1, vcfMaxLine(n)>>20, n)
+			}
 		} else {
 			carry = append(carry, g.head...)
 			if err := parseOne(carry, L+1); err != nil {

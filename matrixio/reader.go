@@ -69,7 +69,9 @@ func Open(path string) (*Store, error) {
 		return nil, fmt.Errorf("open store: %w", err)
 	}
 	if !fi.Mode().IsRegular() {
-		return nil, fmt.Errorf("open store %s: not a regular file", path)
+		// A directory, pipe or device cannot hold a store (it is read from
+		// its end): bad input, exit 2.
+		return nil, BadInput("open store %s: not a regular file (a %s)", path, fileKind(fi.Mode()))
 	}
 	f, err := os.Open(path)
 	if err != nil {
@@ -134,7 +136,7 @@ func (s *Store) load() error {
 		return err
 	}
 	if v := binary.LittleEndian.Uint32(hb); v != formatVersion {
-		return fmt.Errorf("header: unsupported format version %d", v)
+		return BadInput("header: unsupported format version %d (this clinal reads version %d)", v, formatVersion)
 	}
 	metaLen := int64(binary.LittleEndian.Uint32(hb[4:]))
 	if metaLen > 1<<20 {
@@ -155,15 +157,17 @@ func (s *Store) load() error {
 		return fmt.Errorf("header: %w: %d samples", ErrCorrupt, m.Samples)
 	}
 	if m.Codec != CodecGeno2 && m.Codec != CodecFloat32 {
-		return fmt.Errorf("header: unknown codec %q", m.Codec)
+		return BadInput("header: unknown codec %q", truncate(string(m.Codec)))
 	}
 	s.rowBytes = RowBytes(m.Codec, m.Samples)
 	if m.ChunkMarkers <= 0 || int64(m.ChunkMarkers)*int64(s.rowBytes) > MaxChunkBytes {
 		return fmt.Errorf("header: %w: chunk of %d markers", ErrCorrupt, m.ChunkMarkers)
 	}
 	s.maxRaw = m.ChunkMarkers * s.rowBytes
+	// DecodeAll stops at the capacity of its buffer, which ReadChunk sizes
+	// to the chunk's declared length: a chunk never decodes to more.
 	s.dec, err = zstd.NewReader(nil, zstd.WithDecoderConcurrency(0),
-		zstd.WithDecoderMaxMemory(uint64(s.maxRaw)+(16<<20)))
+		zstd.WithDecoderMaxMemory(uint64(s.maxRaw)+(16<<20)), zstd.WithDecodeAllCapLimit(true))
 	if err != nil {
 		return err
 	}
@@ -260,9 +264,28 @@ func splitLines(b []byte) []string {
 	return out
 }
 
-// decode decompresses exactly want bytes.
+// zstdMaxRatio bounds what a zstd input can decode to: every block
+// regenerates at most 128 KiB and takes at least 4 bytes (a 3-byte block
+// header and one RLE byte; RFC 8878 sections 3.1.1.2 and 3.1.1.2.2), so n
+// compressed bytes decode to at most 32768*n bytes.
+const zstdMaxRatio = (128 << 10) / 4
+
+// decode decompresses exactly want bytes of a table. A want that comp cannot
+// decode to is refused before anything is allocated, and the decoder stops
+// at want bytes (the capacity of its buffer; the 16 MiB of slack in its
+// memory limit admits the encoder's window sizes). The tables get their own
+// decoder because they may be far larger than a chunk.
 func (s *Store) decode(comp []byte, want int) ([]byte, error) {
-	out, err := s.dec.DecodeAll(comp, make([]byte, 0, want))
+	if want < 0 || uint64(want) > uint64(len(comp))*zstdMaxRatio {
+		return nil, fmt.Errorf("%w: %d compressed bytes cannot decode to the declared %d", ErrCorrupt, len(comp), want)
+	}
+	dec, err := zstd.NewReader(nil, zstd.WithDecoderConcurrency(1), zstd.WithDecoderMaxMemory(uint64(want)+(16<<20)),
+		zstd.WithDecodeAllCapLimit(true))
+	if err != nil {
+		return nil, err
+	}
+	defer dec.Close()
+	out, err := dec.DecodeAll(comp, make([]byte, 0, want))
 	if err != nil {
 		return nil, fmt.Errorf("%w: zstd: %v", ErrCorrupt, err)
 	}
@@ -312,6 +335,16 @@ func (t *tableReader) f64() float64 {
 }
 
 func (s *Store) parseMarkers(raw []byte, n int) error {
+	// Each record takes at least 9 bytes (four length prefixes, position
+	// and four counts, one byte each; 16 more for float sums): refuse a
+	// count the table cannot hold before allocating n records.
+	minRec := 9
+	if s.meta.Codec == CodecFloat32 {
+		minRec += 16
+	}
+	if uint64(n) > uint64(len(raw))/uint64(minRec) {
+		return fmt.Errorf("marker table: %w: %d bytes cannot hold %d markers", ErrCorrupt, len(raw), n)
+	}
 	t := &tableReader{b: raw}
 	// Chromosome names and short alleles repeat across markers: share one
 	// string each, so the table costs little more than the IDs.
@@ -458,7 +491,10 @@ func (s *Store) ReadChunk(c int, dst *Chunk) error {
 		return fmt.Errorf("%s: chunk %d (markers %d-%d): %w", s.path, c, r.first+1, r.first+uint64(r.nmarkers), ErrChecksum)
 	}
 	if cap(dst.Raw) < int(r.rawLen) {
-		dst.Raw = make([]byte, 0, s.maxRaw)
+		// The declared chunk length, checked against the header at Open,
+		// not the header's largest chunk: a store that declares huge
+		// chunks but holds small ones costs only what it holds.
+		dst.Raw = make([]byte, 0, r.rawLen)
 	}
 	out, err := s.dec.DecodeAll(dst.comp, dst.Raw[:0])
 	if err != nil {

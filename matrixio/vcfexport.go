@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"context"
 	"fmt"
-	"os"
 	"strconv"
 	"strings"
 	"time"
@@ -40,6 +39,9 @@ type ExportSummary struct {
 // '.'. The output is written atomically.
 func ExportVCF(ctx context.Context, path, out string, opt ExportOptions) (*ExportSummary, error) {
 	t0 := time.Now()
+	if err := CheckOutputPath(out); err != nil {
+		return nil, err
+	}
 	st, err := Open(path)
 	if err != nil {
 		return nil, err
@@ -51,7 +53,7 @@ func ExportVCF(ctx context.Context, path, out string, opt ExportOptions) (*Expor
 	all := st.Samples()
 	keep := make([]int, 0, len(all))
 	if opt.KeepSamplesFile != "" {
-		ids, err := vcfReadIDList(opt.KeepSamplesFile)
+		ids, err := vcfReadIDList(ctx, opt.KeepSamplesFile)
 		if err != nil {
 			return nil, err
 		}
@@ -177,8 +179,8 @@ type vcfListedID struct {
 }
 
 // vcfReadIDList reads a file of IDs, one per line (first tab-separated field).
-func vcfReadIDList(path string) ([]vcfListedID, error) {
-	f, err := os.Open(path)
+func vcfReadIDList(ctx context.Context, path string) ([]vcfListedID, error) {
+	f, err := OpenInput(ctx, path)
 	if err != nil {
 		return nil, fmt.Errorf("read sample list: %w", err)
 	}

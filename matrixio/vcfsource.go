@@ -3,12 +3,12 @@ package matrixio
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"encoding/binary"
 	"errors"
 	"fmt"
 	"hash/crc32"
 	"io"
-	"os"
 
 	"github.com/klauspost/compress/flate"
 	"github.com/klauspost/compress/gzip"
@@ -228,8 +228,9 @@ type vcfInput struct {
 	dec    io.Closer // gzip or zstd decoder to release
 }
 
-// vcfOpen opens path ("-" reads stdin) and detects its compression.
-func vcfOpen(path string, stdin io.Reader) (*vcfInput, error) {
+// vcfOpen opens path ("-" reads stdin) with OpenInput (so directories are
+// refused and named pipes read as streams) and detects its compression.
+func vcfOpen(ctx context.Context, path string, stdin io.Reader) (*vcfInput, error) {
 	in := &vcfInput{name: path}
 	var r io.Reader
 	if path == "-" {
@@ -239,13 +240,9 @@ func vcfOpen(path string, stdin io.Reader) (*vcfInput, error) {
 		in.name = "<stdin>"
 		r = stdin
 	} else {
-		f, err := os.Open(path)
+		f, err := OpenInput(ctx, path)
 		if err != nil {
-			return nil, fmt.Errorf("open input: %w", err)
-		}
-		if fi, err := f.Stat(); err == nil && fi.IsDir() {
-			f.Close()
-			return nil, BadInput("%s: is a directory", path)
+			return nil, err
 		}
 		in.closer = f
 		r = f

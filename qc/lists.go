@@ -2,9 +2,9 @@ package qc
 
 import (
 	"bufio"
+	"context"
 	"fmt"
 	"io"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
@@ -18,9 +18,11 @@ import (
 const maxLineBytes = 1 << 20
 
 // openText opens a text file, plain or gzip-compressed (detected from its
-// first bytes).
-func openText(path string) (io.ReadCloser, error) {
-	f, err := os.Open(path)
+// first bytes), with matrixio.OpenInput: a directory is refused and a named
+// pipe (process substitution) is read as a stream, its wait for a writer
+// ending with ctx.
+func openText(ctx context.Context, path string) (io.ReadCloser, error) {
+	f, err := matrixio.OpenInput(ctx, path)
 	if err != nil {
 		return nil, err
 	}
@@ -45,8 +47,8 @@ func openText(path string) (io.ReadCloser, error) {
 
 // eachLine calls fn with every line of path (1-based line numbers, line
 // without its end). Errors from fn are returned as they are.
-func eachLine(path string, fn func(line int, text string) error) error {
-	rc, err := openText(path)
+func eachLine(ctx context.Context, path string, fn func(line int, text string) error) error {
+	rc, err := openText(ctx, path)
 	if err != nil {
 		return err
 	}
@@ -86,10 +88,10 @@ type SampleList struct {
 // clinal qc, or the first column of a table, can be given as is. It marks
 // in hit the store samples named. IDs not in the store are counted (a
 // warning); a list that names no store sample at all is an error.
-func readSampleList(path, flagName string, index map[string]int, hit []bool) (*SampleList, error) {
+func readSampleList(ctx context.Context, path, flagName string, index map[string]int, hit []bool) (*SampleList, error) {
 	sl := &SampleList{Path: path}
 	seen := map[string]bool{}
-	err := eachLine(path, func(line int, text string) error {
+	err := eachLine(ctx, path, func(line int, text string) error {
 		sl.Lines = line
 		f := strings.Fields(text)
 		if len(f) == 0 || strings.HasPrefix(f[0], "#") {
@@ -141,9 +143,12 @@ type Regions struct {
 // Blank lines, '#' comments and "track"/"browser" lines are skipped; plain
 // or gzip-compressed. Chromosome names are matched after NormalizeChrom. A
 // bad line is a BadInput error naming the file and line.
-func ReadBED(path string) (*Regions, error) {
+func ReadBED(path string) (*Regions, error) { return readBED(context.Background(), path) }
+
+// readBED is ReadBED whose wait for the writer of a named pipe ends with ctx.
+func readBED(ctx context.Context, path string) (*Regions, error) {
 	r := &Regions{Path: path, byChrom: map[string][][2]int64{}}
-	err := eachLine(path, func(line int, text string) error {
+	err := eachLine(ctx, path, func(line int, text string) error {
 		t := strings.TrimSpace(text)
 		if t == "" || t[0] == '#' || strings.HasPrefix(t, "track") || strings.HasPrefix(t, "browser") {
 			return nil

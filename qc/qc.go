@@ -189,7 +189,7 @@ func Run(ctx context.Context, st *matrixio.Store, opt Options) (*Selection, erro
 		}
 		if opt.KeepSamples != "" {
 			hit := make([]bool, N)
-			sl, err := readSampleList(opt.KeepSamples, "keep-samples", index, hit)
+			sl, err := readSampleList(ctx, opt.KeepSamples, "keep-samples", index, hit)
 			if err != nil {
 				return nil, err
 			}
@@ -205,7 +205,7 @@ func Run(ctx context.Context, st *matrixio.Store, opt Options) (*Selection, erro
 		}
 		if opt.DropSamples != "" {
 			hit := make([]bool, N)
-			sl, err := readSampleList(opt.DropSamples, "drop-samples", index, hit)
+			sl, err := readSampleList(ctx, opt.DropSamples, "drop-samples", index, hit)
 			if err != nil {
 				return nil, err
 			}
@@ -241,7 +241,7 @@ func Run(ctx context.Context, st *matrixio.Store, opt Options) (*Selection, erro
 	// Static marker filters: chromosome and region.
 	var regions *Regions
 	if opt.ExcludeRegions != "" {
-		r, err := ReadBED(opt.ExcludeRegions)
+		r, err := readBED(ctx, opt.ExcludeRegions)
 		if err != nil {
 			return nil, err
 		}
