@@ -197,6 +197,17 @@ func (s *Store) load() error {
 	if len(s.samples) != m.Samples {
 		return fmt.Errorf("sample table: %w: %d IDs for %d samples", ErrCorrupt, len(s.samples), m.Samples)
 	}
+	// IDs end up in TSV outputs: refuse what the writer would have refused.
+	seen := make(map[string]int, len(s.samples))
+	for i, id := range s.samples {
+		if err := ValidateID("sample ID", id); err != nil {
+			return fmt.Errorf("sample table: %w: sample %d: %v", ErrCorrupt, i+1, err)
+		}
+		if j, ok := seen[id]; ok {
+			return fmt.Errorf("sample table: %w: duplicate sample ID %q (samples %d and %d)", ErrCorrupt, truncate(id), j+1, i+1)
+		}
+		seen[id] = i
+	}
 	chunkStart := off + 12 + compLen + 4
 	// Chunk index.
 	if ft.chunks > uint64(s.size/indexRecSize) || ft.markers > MaxMarkers || ft.markers == 0 {
@@ -371,6 +382,13 @@ func (s *Store) parseMarkers(raw []byte, n int) error {
 		m.ID = t.str()
 		m.Ref = short(t.str())
 		m.Alt = short(t.str())
+		if t.err == nil {
+			for _, f := range [...]struct{ k, v string }{{"chromosome", m.Chrom}, {"marker ID", m.ID}, {"REF allele", m.Ref}, {"ALT allele", m.Alt}} {
+				if err := validMarkerField(f.k, f.v); err != nil {
+					return fmt.Errorf("marker table: %w: marker %d: %v", ErrCorrupt, i+1, err)
+				}
+			}
+		}
 		c := &s.counts[i]
 		a, b, d, e := t.uvarint(), t.uvarint(), t.uvarint(), t.uvarint()
 		if t.err == nil && a+b+d+e != N {

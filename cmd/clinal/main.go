@@ -14,6 +14,7 @@ import (
 	"os"
 	"os/signal"
 	"syscall"
+	"time"
 
 	"github.com/clinal/clinal/matrixio"
 )
@@ -57,8 +58,12 @@ func main() {
 	go func() {
 		s := <-sigs
 		cancel(interrupted{s.(syscall.Signal)})
-		// A second signal while cleaning up ends the process at once.
-		<-sigs
+		// A second signal, or a clean-up that takes longer than 30 s, ends
+		// the process at once.
+		select {
+		case <-sigs:
+		case <-time.After(30 * time.Second):
+		}
 		os.Exit(128 + int(s.(syscall.Signal)))
 	}()
 	e := &env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, tty: isTerminal(os.Stderr)}

@@ -16,6 +16,7 @@ package report
 import (
 	"bytes"
 	"fmt"
+	"github.com/clinal/clinal/randsvd"
 	"html/template"
 	"io"
 	"math"
@@ -309,17 +310,6 @@ func inlineSVG(b []byte) string {
 	return s
 }
 
-// formatBytes renders a byte count with a binary unit.
-func formatBytes(b int64) string {
-	f := float64(b)
-	for _, u := range []string{"B", "KiB", "MiB", "GiB", "TiB"} {
-		if f < 1024 || u == "TiB" {
-			if u == "B" {
-				return fmt.Sprintf("%d B", b)
-			}
-			return fmt.Sprintf("%.1f %s", f, u)
-		}
-		f /= 1024
-	}
-	return ""
-}
+// formatBytes renders a byte count with a binary unit (as the memory plan
+// prints it).
+func formatBytes(b int64) string { return randsvd.FormatBytes(b) }
