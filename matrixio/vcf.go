@@ -316,13 +316,7 @@ func (p *vcfParser) parseGT(rest []byte, fi, nalt int, b *vcfBatch) error {
 		}
 		// General path.
 		var col []byte
-		if t := bytes.IndexByte(rest[q:], '\t'); t >= 0 {
-			col = rest[q : q+t]
-			q += t + 1
-		} else {
-			col = rest[q:]
-			q = L + 1
-		}
+		col, q = nextColumn(rest, q)
 		gt, ok := vcfSubfield(col, fi)
 		if !ok {
 			g[i] = Missing
@@ -440,13 +434,7 @@ func (p *vcfParser) parseDS(rest []byte, fi int, b *vcfBatch) error {
 			return p.errColumns(9 + i)
 		}
 		var col []byte
-		if t := bytes.IndexByte(rest[q:], '\t'); t >= 0 {
-			col = rest[q : q+t]
-			q += t + 1
-		} else {
-			col = rest[q:]
-			q = L + 1
-		}
+		col, q = nextColumn(rest, q)
 		if fi < 0 {
 			x[i] = nan
 			b.stats.missing++
@@ -552,13 +540,7 @@ func (p *vcfParser) parseSplit(rest []byte, fi, nalt int, m Marker, idB, posB, a
 			return p.errColumns(9 + i)
 		}
 		var col []byte
-		if t := bytes.IndexByte(rest[q:], '\t'); t >= 0 {
-			col = rest[q : q+t]
-			q += t + 1
-		} else {
-			col = rest[q:]
-			q = L + 1
-		}
+		col, q = nextColumn(rest, q)
 		var gt []byte
 		ok := fi >= 0
 		if ok {
@@ -626,13 +608,7 @@ func (p *vcfParser) splitDS(rest []byte, fi, nalt int, m Marker, idB, posB []byt
 			return p.errColumns(9 + i)
 		}
 		var col []byte
-		if t := bytes.IndexByte(rest[q:], '\t'); t >= 0 {
-			col = rest[q : q+t]
-			q += t + 1
-		} else {
-			col = rest[q:]
-			q = L + 1
-		}
+		col, q = nextColumn(rest, q)
 		var v []byte
 		ok := fi >= 0
 		if ok {
@@ -673,4 +649,14 @@ func (p *vcfParser) splitDS(rest []byte, fi, nalt int, m Marker, idB, posB []byt
 		b.stats.markers++
 	}
 	return nil
+}
+
+// nextColumn returns the tab-separated field of rest that starts at q and
+// the start of the next field (len(rest)+1 after the last one, so a loop
+// that wants more columns sees q > len(rest)).
+func nextColumn(rest []byte, q int) ([]byte, int) {
+	if t := bytes.IndexByte(rest[q:], '\t'); t >= 0 {
+		return rest[q : q+t], q + t + 1
+	}
+	return rest[q:], len(rest) + 1
 }
