@@ -198,15 +198,8 @@ func (s *Store) load() error {
 		return fmt.Errorf("sample table: %w: %d IDs for %d samples", ErrCorrupt, len(s.samples), m.Samples)
 	}
 	// IDs end up in TSV outputs: refuse what the writer would have refused.
-	seen := make(map[string]int, len(s.samples))
-	for i, id := range s.samples {
-		if err := ValidateID("sample ID", id); err != nil {
-			return fmt.Errorf("sample table: %w: sample %d: %v", ErrCorrupt, i+1, err)
-		}
-		if j, ok := seen[id]; ok {
-			return fmt.Errorf("sample table: %w: duplicate sample ID %q (samples %d and %d)", ErrCorrupt, truncate(id), j+1, i+1)
-		}
-		seen[id] = i
+	if err := ValidateSamples(s.samples); err != nil {
+		return fmt.Errorf("sample table: %w: %v", ErrCorrupt, err)
 	}
 	chunkStart := off + 12 + compLen + 4
 	// Chunk index.

@@ -273,6 +273,22 @@ func ValidateID(kind, s string) error {
 	return nil
 }
 
+// ValidateSamples checks every sample ID with ValidateID and that no ID
+// repeats; the error names the sample's 1-based position.
+func ValidateSamples(ids []string) error {
+	seen := make(map[string]int, len(ids))
+	for i, s := range ids {
+		if err := ValidateID("sample ID", s); err != nil {
+			return fmt.Errorf("sample %d: %w", i+1, err)
+		}
+		if j, ok := seen[s]; ok {
+			return fmt.Errorf("duplicate sample ID %q (samples %d and %d)", truncate(s), j+1, i+1)
+		}
+		seen[s] = i
+	}
+	return nil
+}
+
 func truncate(s string) string {
 	if len(s) > 40 {
 		return s[:40] + "..."

@@ -75,15 +75,8 @@ func CreateVCF(path string, samples []string, opt VCFWriterOptions) (*VCFWriter,
 	if len(samples) == 0 {
 		return nil, fmt.Errorf("create %s: no samples", path)
 	}
-	seen := make(map[string]int, len(samples))
-	for i, s := range samples {
-		if err := ValidateID("sample ID", s); err != nil {
-			return nil, fmt.Errorf("create %s: sample %d: %w", path, i+1, err)
-		}
-		if j, ok := seen[s]; ok {
-			return nil, fmt.Errorf("create %s: duplicate sample ID %q (samples %d and %d)", path, truncate(s), j+1, i+1)
-		}
-		seen[s] = i
+	if err := ValidateSamples(samples); err != nil {
+		return nil, fmt.Errorf("create %s: %w", path, err)
 	}
 	out, err := CreateAtomic(path)
 	if err != nil {

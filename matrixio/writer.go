@@ -77,15 +77,8 @@ func Create(path string, samples []string, opt WriterOptions) (*Writer, error) {
 	if len(samples) > MaxSamples {
 		return nil, fmt.Errorf("create %s: %d samples exceeds the limit of %d", path, len(samples), MaxSamples)
 	}
-	seen := make(map[string]int, len(samples))
-	for i, s := range samples {
-		if err := ValidateID("sample ID", s); err != nil {
-			return nil, fmt.Errorf("create %s: sample %d: %w", path, i+1, err)
-		}
-		if j, ok := seen[s]; ok {
-			return nil, fmt.Errorf("create %s: duplicate sample ID %q (samples %d and %d)", path, truncate(s), j+1, i+1)
-		}
-		seen[s] = i
+	if err := ValidateSamples(samples); err != nil {
+		return nil, fmt.Errorf("create %s: %w", path, err)
 	}
 	if opt.ChunkMarkers <= 0 {
 		opt.ChunkMarkers = DefaultChunkMarkers(opt.Codec, len(samples))
