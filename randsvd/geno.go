@@ -33,7 +33,7 @@ const (
 // segments returns the boundaries of the fixed sample segments for n
 // samples: about 512 samples each, at most 64 of them, each a multiple of
 // 16 samples (four packed bytes) but the last. They depend on n alone.
-func segments(n, _ int) []int {
+func segments(n int) []int {
 	nseg := min(maxSegments, max(1, (n+segSamples-1)/segSamples))
 	size := ((n+nseg-1)/nseg + 15) &^ 15
 	var b []int
@@ -153,8 +153,9 @@ func findMissing(row []byte, n int, dst []int32) []int32 {
 func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	lp, n, nb := ws.lp, op.n, len(sels)
 	rb := op.st.RowBytes()
-	offs := rowOffsets(sels, rb, make([]int32, 0, nb))
-	segs := segments(n, 4)
+	ws.offs = rowOffsets(sels, rb, ws.offs)
+	offs := ws.offs
+	segs := op.segs
 	nseg := len(segs) - 1
 	ws.part = grow(ws.part, nseg*nb*lp)
 	ws.w = grow(ws.w, nb*lp)
@@ -230,9 +231,8 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 			ws.btot[k] -= mu * d[k]
 		}
 	}
-	rb := op.st.RowBytes()
-	offs := rowOffsets(sels, rb, make([]int32, 0, nb))
-	segs := segments(n, 4)
+	offs := ws.offs // set by genoFirst for these sels
+	segs := op.segs
 	op.forEach(len(segs)-1, func(sg, t int) {
 		buck := ws.tabs[t]
 		a, b := segs[sg], segs[sg+1]

@@ -91,6 +91,7 @@ type Operator struct {
 	dropped  DroppedMarkers
 	isKept   []bool
 	ws       *workspace // buffers of the last pass, reused
+	segs     []int      // fixed sample segments (see segments)
 }
 
 type sel struct {
@@ -134,6 +135,7 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 	}
 	op := &Operator{st: st, n: n, threads: opt.Threads, buffers: opt.Buffers,
 		float: st.Codec() == matrixio.CodecFloat32, progress: opt.Progress, chunkSel: map[int][]sel{}}
+	op.segs = segments(n)
 	op.isKept = make([]bool, n)
 	for i := 0; i < n; i++ {
 		if opt.SampleKept == nil || opt.SampleKept[i] {
@@ -266,18 +268,22 @@ type workspace struct {
 	z     []float64 // float stores: b x N standardized block
 	trace []float64 // float stores: per-marker sum of squares
 	tabs  [][]float64
-	block []byte // kept rows of consecutive chunks, gathered into one block
-	bsels []sel  // their selections (off = row within block)
-	err   error  // first error of a MarkerProducts callback
+	block []byte  // kept rows of consecutive chunks, gathered into one block
+	bsels []sel   // their selections (off = row within block)
+	offs  []int32 // row offsets of the block being processed
+	err   error   // first error of a MarkerProducts callback
 }
 
 // blockTarget is the number of markers the 2-bit kernels want per block:
 // the per-block costs (group tables, bucket sums) are about 1,000 row
 // operations per group of four samples, so blocks of 2,048 markers keep them
 // small. The block buffer is also kept within max(64 MiB, two X blocks).
-func (op *Operator) blockTarget(lp int) int {
-	rb := op.st.RowBytes()
-	limit := max(64<<20, 2*op.n*lp*8)
+func (op *Operator) blockTarget(lp int) int { return blockTarget(op.n, lp, op.st.RowBytes()) }
+
+// blockTarget is Operator.blockTarget for n samples, padded block width lp
+// and packed rows of rb bytes (PlanMemory budgets with it too).
+func blockTarget(n, lp, rb int) int {
+	limit := max(64<<20, 2*n*lp*8)
 	return max(1, min(2048, limit/rb))
 }
 
@@ -499,7 +505,7 @@ func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
 	nb := len(sels)
 	tr := op.floatFirst(ws, c, sels)
 	ws.trace = append(ws.trace, tr...)
-	segs := segments(n, 1)
+	segs := op.segs
 	op.forEach(len(segs)-1, func(sg, _ int) {
 		a, b := segs[sg], segs[sg+1]
 		for q := 0; q < nb; q++ {

@@ -104,9 +104,9 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	// partial products and the group tables of each thread.
 	lp := int64((l + 3) &^ 3)
 	rb := int64(st.RowBytes())
-	target := int64(max(1, min(2048, int(max(64<<20, 2*int64(n)*lp*8)/rb))))
+	target := int64(blockTarget(n, int(lp), int(rb)))
 	blockM := max(target, int64(st.ChunkMarkers()))
-	nseg := int64(len(segments(n, 4)) - 1)
+	nseg := int64(len(segments(n)) - 1)
 	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*4*256*lp*8
 	if st.Codec() == matrixio.CodecGeno2 && int64(st.ChunkMarkers()) < target {
 		p.KernelBytes += target * rb
