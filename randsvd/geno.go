@@ -2,6 +2,8 @@ package randsvd
 
 import (
 	"encoding/binary"
+	"math/bits"
+	"slices"
 )
 
 // The 2-bit kernels work on groups of four samples, one packed byte of a
@@ -121,27 +123,25 @@ func rowOffsets(sels []sel, rb int, buf []int32) []int32 {
 	return buf
 }
 
-// findMissing lists the samples with a missing call (code 3) in a packed
-// row, testing eight bytes at a time.
+// findMissing lists, in increasing order, the samples with a missing call
+// (code 3) in a packed row, eight bytes at a time: a set bit of
+// x & x>>1 & 0x55... marks a missing code.
 func findMissing(row []byte, n int, dst []int32) []int32 {
 	dst = dst[:0]
 	const lo = 0x5555555555555555
-	bi := 0
-	for ; bi < len(row); bi += 8 {
+	for bi := 0; bi < len(row); bi += 8 {
+		var x uint64
 		if bi+8 <= len(row) {
-			x := binary.LittleEndian.Uint64(row[bi:])
-			if x&(x>>1)&lo == 0 {
-				continue
-			}
+			x = binary.LittleEndian.Uint64(row[bi:])
+		} else {
+			var buf [8]byte
+			copy(buf[:], row[bi:])
+			x = binary.LittleEndian.Uint64(buf[:])
 		}
-		for b := bi; b < min(bi+8, len(row)); b++ {
-			by := row[b]
-			if m := by & (by >> 1) & 0x55; m != 0 {
-				for s := 0; s < 4; s++ {
-					if m&(1<<(2*s)) != 0 && 4*b+s < n {
-						dst = append(dst, int32(4*b+s))
-					}
-				}
+		for m := x & (x >> 1) & lo; m != 0; m &= m - 1 {
+			i := 4*bi + bits.TrailingZeros64(m)/2
+			if i < n {
+				dst = append(dst, int32(i))
 			}
 		}
 	}
@@ -166,19 +166,17 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 		part := ws.part[sg*nb*lp : (sg+1)*nb*lp]
 		clear(part)
 		tab := ws.tabs[t]
-		g, end := segs[sg]/4, (segs[sg+1]+3)/4
-		for ; g+4 <= end; g += 4 {
-			for u := 0; u < 4; u++ {
+		ng := tileGroups(lp)
+		for g, end := segs[sg]/4, (segs[sg+1]+3)/4; g < end; g += ng {
+			nt := min(ng, end-g)
+			for u := 0; u < nt; u++ {
 				buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, g+u, n, lp)
 			}
-			gatherAdd4(part, tab, raw, offs, g, lp)
-		}
-		for ; g < end; g++ {
-			buildTable(tab, ws.x, g, n, lp)
-			gatherAdd(part, tab, raw, offs, g, lp)
+			gatherTile(part, tab, raw, offs, g, nt, lp)
 		}
 	})
-	op.forEach(nb, func(q, _ int) {
+	ws.scratch = grow(ws.scratch, op.threads*lp)
+	op.forEach(nb, func(q, t int) {
 		s := sels[q]
 		ws.miss[q] = findMissing(raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
 		w := ws.w[q*lp : q*lp+lp]
@@ -197,22 +195,12 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 			}
 			return
 		}
-		var stack [64]float64
-		called := stack[:0]
-		if lp > len(stack) {
-			called = make([]float64, lp)
-		} else {
-			called = stack[:lp]
-		}
-		copy(called, ws.tot)
-		for _, i := range ws.miss[q] {
-			xi := ws.x[int(i)*lp : int(i)*lp+lp]
-			for k := range called {
-				called[k] -= xi[k]
-			}
-		}
+		// S_j, the sum of X over the missing samples.
+		miss := ws.scratch[t*lp : t*lp+lp]
+		sumRows(miss, ws.x, ws.miss[q], lp)
+		called := ws.tot
 		for k := range w {
-			w[k] = (w[k] - mu*called[k]) * inv
+			w[k] = (w[k] - mu*(called[k]-miss[k])) * inv
 		}
 	})
 }
@@ -222,13 +210,16 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 	lp, n, nb := ws.lp, op.n, len(sels)
 	op.genoFirst(ws, raw, sels)
 	ws.wpp = grow(ws.wpp, nb*lp)
+	ws.mwpp = grow(ws.mwpp, nb*lp)
 	for q, s := range sels {
 		mu, inv := op.center[s.ord], op.scale[s.ord]
 		w := ws.w[q*lp : q*lp+lp]
 		d := ws.wpp[q*lp : q*lp+lp]
+		md := ws.mwpp[q*lp : q*lp+lp]
 		for k := range d {
 			d[k] = w[k] * inv
-			ws.btot[k] -= mu * d[k]
+			md[k] = mu * d[k]
+			ws.btot[k] -= md[k]
 		}
 	}
 	offs := ws.offs // set by genoFirst for these sels
@@ -236,65 +227,70 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 	op.forEach(len(segs)-1, func(sg, t int) {
 		buck := ws.tabs[t]
 		a, b := segs[sg], segs[sg+1]
-		g, end := a/4, (b+3)/4
-		for g < end {
-			width := 1
-			if g+4 <= end {
-				width = 4
-				clear(buck)
-				scatterAdd4(buck, ws.wpp, raw, offs, g, lp)
-			} else {
-				clear(buck[:256*lp])
-				scatterAdd(buck, ws.wpp, raw, offs, g, lp)
-			}
-			for u := 0; u < width; u++ {
+		ng := tileGroups(lp)
+		for g, end := a/4, (b+3)/4; g < end; g += ng {
+			nt := min(ng, end-g)
+			clear(buck[:nt*256*lp])
+			scatterTile(buck, ws.wpp, raw, offs, g, nt, lp)
+			for u := 0; u < nt; u++ {
 				bu := buck[u*256*lp : (u+1)*256*lp]
 				for s := 0; s < 4 && 4*(g+u)+s < n; s++ {
 					i := 4*(g+u) + s
 					marginal(ws.y[i*lp:i*lp+lp], bu, &marginalIdx[s][0], &marginalIdx[s][1], lp)
 				}
 			}
-			g += width
 		}
 		// Missing calls have z = 0: give back the -mu_j W''_j of btot.
-		for q, s := range sels {
-			mu := op.center[s.ord]
-			d := ws.wpp[q*lp : q*lp+lp]
-			for _, i := range ws.miss[q] {
-				if int(i) < a || int(i) >= b {
-					continue
-				}
-				y := ws.y[int(i)*lp : int(i)*lp+lp]
-				for k := range y {
-					y[k] += mu * d[k]
-				}
-			}
+		for q := range sels {
+			idx := ws.miss[q]
+			lo, _ := slices.BinarySearch(idx, int32(a))
+			hi, _ := slices.BinarySearch(idx, int32(b))
+			addRow(ws.y, ws.mwpp[q*lp:q*lp+lp], idx[lo:hi], lp)
 		}
 	})
 }
 
-// gatherAddGeneric: for each marker q, dst[q] += tab[byte g of its row].
-func gatherAddGeneric(dst, tab []float64, raw []byte, offs []int32, g, lp int) {
+// gatherTileGeneric: for each marker q, dst[q] += tab_t[byte g+t of its
+// row] for t = 0..ng-1 in that order, tab_t = tab[t*256*lp:]. Element by
+// element this is the vector kernel's order of additions.
+func gatherTileGeneric(dst, tab []float64, raw []byte, offs []int32, g, ng, lp int) {
+	tb := 256 * lp
 	for q, o := range offs {
-		v := int(raw[int(o)+g])
 		d := dst[q*lp : q*lp+lp]
-		s := tab[v*lp : v*lp+lp]
-		for k := range d {
-			d[k] += s[k]
+		b := raw[int(o)+g : int(o)+g+ng]
+		for t, v := range b {
+			s := tab[t*tb+int(v)*lp : t*tb+int(v)*lp+lp]
+			for k := range d {
+				d[k] += s[k]
+			}
 		}
 	}
 }
 
-// scatterAddGeneric: for each marker q, buck[byte g of its row] += src[q].
-func scatterAddGeneric(buck, src []float64, raw []byte, offs []int32, g, lp int) {
+// scatterTileGeneric: for each marker q in increasing order,
+// buck_t[byte g+t of its row] += src[q] for t = 0..ng-1,
+// buck_t = buck[t*256*lp:].
+func scatterTileGeneric(buck, src []float64, raw []byte, offs []int32, g, ng, lp int) {
+	tb := 256 * lp
 	for q, o := range offs {
-		v := int(raw[int(o)+g])
-		d := buck[v*lp : v*lp+lp]
 		s := src[q*lp : q*lp+lp]
-		for k := range d {
-			d[k] += s[k]
+		b := raw[int(o)+g : int(o)+g+ng]
+		for t, v := range b {
+			d := buck[t*tb+int(v)*lp : t*tb+int(v)*lp+lp]
+			for k := range d {
+				d[k] += s[k]
+			}
 		}
 	}
+}
+
+// tileGroups is the number of sample groups (packed bytes) whose tables a
+// kernel call walks at once: as many as keep their 256-row tables, for one
+// column chunk of at most 32 values, within about 256 KiB (the L2 cache of
+// the machines of design.md), at most 16.
+func tileGroups(lp int) int {
+	w := min(lp, 32)
+	return max(1, min(16, (256<<10)/(256*w*8)))
 }
 
 // marginalGeneric adds to y the buckets whose code at this position is 1
@@ -315,35 +311,26 @@ func marginalGeneric(y, buck []float64, l1, l2 *[64]uint8, lp int) {
 	}
 }
 
-// gatherAdd4Generic is four consecutive groups of gatherAdd with one
-// update of dst per marker: dst[q] += ((t0 + t1) + t2) + t3, in that order
-// (the vector kernel adds in the same order, so results are identical).
-func gatherAdd4Generic(dst, tab []float64, raw []byte, offs []int32, g, lp int) {
-	tb := 256 * lp
-	for q, o := range offs {
-		b := raw[int(o)+g : int(o)+g+4]
-		t0 := tab[int(b[0])*lp : int(b[0])*lp+lp]
-		t1 := tab[tb+int(b[1])*lp : tb+int(b[1])*lp+lp]
-		t2 := tab[2*tb+int(b[2])*lp : 2*tb+int(b[2])*lp+lp]
-		t3 := tab[3*tb+int(b[3])*lp : 3*tb+int(b[3])*lp+lp]
-		d := dst[q*lp : q*lp+lp]
+// sumRowsGeneric sets dst[:lp] to the sum of the rows x[i] for i in idx, in
+// list order from zero (the vector kernel's order).
+func sumRowsGeneric(dst, x []float64, idx []int32, lp int) {
+	d := dst[:lp]
+	clear(d)
+	for _, i := range idx {
+		r := x[int(i)*lp : int(i)*lp+lp]
 		for k := range d {
-			d[k] += ((t0[k] + t1[k]) + t2[k]) + t3[k]
+			d[k] += r[k]
 		}
 	}
 }
 
-// scatterAdd4Generic is four consecutive groups of scatterAdd.
-func scatterAdd4Generic(buck, src []float64, raw []byte, offs []int32, g, lp int) {
-	tb := 256 * lp
-	for q, o := range offs {
-		b := raw[int(o)+g : int(o)+g+4]
-		s := src[q*lp : q*lp+lp]
-		for t := 0; t < 4; t++ {
-			d := buck[t*tb+int(b[t])*lp : t*tb+int(b[t])*lp+lp]
-			for k := range d {
-				d[k] += s[k]
-			}
+// addRowGeneric adds v[:lp] to the rows y[i] for i in idx.
+func addRowGeneric(y, v []float64, idx []int32, lp int) {
+	v = v[:lp]
+	for _, i := range idx {
+		r := y[int(i)*lp : int(i)*lp+lp]
+		for k := range r {
+			r[k] += v[k]
 		}
 	}
 }

@@ -5,20 +5,12 @@ package randsvd
 // useAVX2 is false off amd64: the portable kernels run.
 const useAVX2 = false
 
-func gatherAdd(dst, tab []float64, raw []byte, offs []int32, g, lp int) {
-	gatherAddGeneric(dst, tab, raw, offs, g, lp)
+func gatherTile(dst, tab []float64, raw []byte, offs []int32, g, ng, lp int) {
+	gatherTileGeneric(dst, tab, raw, offs, g, ng, lp)
 }
 
-func scatterAdd(buck, src []float64, raw []byte, offs []int32, g, lp int) {
-	scatterAddGeneric(buck, src, raw, offs, g, lp)
-}
-
-func gatherAdd4(dst, tab []float64, raw []byte, offs []int32, g, lp int) {
-	gatherAdd4Generic(dst, tab, raw, offs, g, lp)
-}
-
-func scatterAdd4(buck, src []float64, raw []byte, offs []int32, g, lp int) {
-	scatterAdd4Generic(buck, src, raw, offs, g, lp)
+func scatterTile(buck, src []float64, raw []byte, offs []int32, g, ng, lp int) {
+	scatterTileGeneric(buck, src, raw, offs, g, ng, lp)
 }
 
 func marginal(y, buck []float64, l1, l2 *[64]uint8, lp int) {
@@ -28,3 +20,7 @@ func marginal(y, buck []float64, l1, l2 *[64]uint8, lp int) {
 func addRows(dst, src, v []float64, rows, lp int) {
 	addRowsGeneric(dst, src, v, rows, lp)
 }
+
+func sumRows(dst, x []float64, idx []int32, lp int) { sumRowsGeneric(dst, x, idx, lp) }
+
+func addRow(y, v []float64, idx []int32, lp int) { addRowGeneric(y, v, idx, lp) }

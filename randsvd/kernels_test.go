@@ -2,6 +2,7 @@ package randsvd
 
 import (
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -12,7 +13,7 @@ import (
 func TestKernelsMatchGeneric(t *testing.T) {
 	r := rand.New(rand.NewPCG(9, 9))
 	for trial := 0; trial < 40; trial++ {
-		lp := 4 * (1 + r.IntN(8))
+		lp := 4 * (1 + r.IntN(20)) // up to 80: several column chunks of the vector kernels
 		nq := 1 + r.IntN(300)
 		rowBytes := 8 + r.IntN(64)
 		raw := make([]byte, (nq+5)*rowBytes)
@@ -23,8 +24,9 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		for q := range offs {
 			offs[q] = int32(r.IntN(nq+5) * rowBytes)
 		}
-		g := r.IntN(rowBytes - 4)
-		tab := make([]float64, 4*256*lp)
+		ng := 1 + r.IntN(12)
+		g := r.IntN(rowBytes - ng + 1)
+		tab := make([]float64, ng*256*lp)
 		for i := range tab {
 			tab[i] = r.NormFloat64()
 		}
@@ -34,23 +36,35 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		}
 		type kern struct {
 			name       string
-			fast, slow func(a, b []float64)
+			fast, slow func(a []float64)
 			outLen     int
 		}
 		ks := []kern{
-			{"gatherAdd", func(a, b []float64) { gatherAdd(a, tab, raw, offs, g, lp) }, func(a, b []float64) { gatherAddGeneric(a, tab, raw, offs, g, lp) }, nq * lp},
-			{"gatherAdd4", func(a, b []float64) { gatherAdd4(a, tab, raw, offs, g, lp) }, func(a, b []float64) { gatherAdd4Generic(a, tab, raw, offs, g, lp) }, nq * lp},
-			{"scatterAdd", func(a, b []float64) { scatterAdd(a, src, raw, offs, g, lp) }, func(a, b []float64) { scatterAddGeneric(a, src, raw, offs, g, lp) }, 256 * lp},
-			{"scatterAdd4", func(a, b []float64) { scatterAdd4(a, src, raw, offs, g, lp) }, func(a, b []float64) { scatterAdd4Generic(a, src, raw, offs, g, lp) }, 4 * 256 * lp},
+			{"gatherTile", func(a []float64) { gatherTile(a, tab, raw, offs, g, ng, lp) }, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, lp) }, nq * lp},
+			{"scatterTile", func(a []float64) { scatterTile(a, src, raw, offs, g, ng, lp) }, func(a []float64) { scatterTileGeneric(a, src, raw, offs, g, ng, lp) }, ng * 256 * lp},
 		}
+		// Index lists as the missing-call kernels see them: ascending, and
+		// also repeated and unordered.
+		idx := make([]int32, r.IntN(40))
+		for i := range idx {
+			idx[i] = int32(r.IntN(nq))
+		}
+		if trial%2 == 0 {
+			slices.Sort(idx)
+		}
+		one := src[:lp]
+		ks = append(ks,
+			kern{"sumRows", func(a []float64) { sumRows(a, src, idx, lp) }, func(a []float64) { sumRowsGeneric(a, src, idx, lp) }, lp},
+			kern{"addRow", func(a []float64) { addRow(a, one, idx, lp) }, func(a []float64) { addRowGeneric(a, one, idx, lp) }, nq * lp},
+		)
 		for _, k := range ks {
 			a := make([]float64, k.outLen)
 			for i := range a {
 				a[i] = r.NormFloat64()
 			}
 			b := append([]float64(nil), a...)
-			k.fast(a, nil)
-			k.slow(b, nil)
+			k.fast(a)
+			k.slow(b)
 			for i := range a {
 				if a[i] != b[i] {
 					t.Fatalf("%s trial %d (lp %d, n %d): element %d = %v, generic %v", k.name, trial, lp, nq, i, a[i], b[i])
@@ -86,6 +100,39 @@ func TestBuildTable(t *testing.T) {
 				if d := tab[v*lp+k] - want; d > 1e-12 || d < -1e-12 {
 					t.Fatalf("n %d: tab[%d][%d] = %v, want %v", n, v, k, tab[v*lp+k], want)
 				}
+			}
+		}
+	}
+}
+
+// TestFindMissing checks the word-at-a-time scan against a plain decode of
+// every 2-bit code (code 3 is a missing call, design.md's store codes) on
+// random rows of every length 1..40 bytes, missing-heavy and sparse, with
+// sample counts that end inside the last byte.
+func TestFindMissing(t *testing.T) {
+	r := rand.New(rand.NewPCG(4, 4))
+	for _, pMiss := range []float64{0.01, 0.5, 1} {
+		for nbytes := 1; nbytes <= 40; nbytes++ {
+			row := make([]byte, nbytes)
+			for i := range row {
+				for s := 0; s < 4; s++ {
+					c := byte(r.IntN(3))
+					if r.Float64() < pMiss {
+						c = 3
+					}
+					row[i] |= c << (2 * s)
+				}
+			}
+			n := 4*nbytes - r.IntN(4)
+			var want []int32
+			for i := 0; i < n; i++ {
+				if (row[i/4]>>(2*(i%4)))&3 == 3 {
+					want = append(want, int32(i))
+				}
+			}
+			got := findMissing(row, n, nil)
+			if !slices.Equal(got, want) {
+				t.Fatalf("p %.2f, %d bytes, n %d: got %v, want %v", pMiss, nbytes, n, got, want)
 			}
 		}
 	}

@@ -256,22 +256,24 @@ func (op *Operator) Chunks() int { return len(op.chunks) }
 // are stored with a padded stride lp (a multiple of 4) so kernels can work
 // in whole vectors.
 type workspace struct {
-	l, lp int
-	x     []float64 // store-sample rows of X (zero for dropped samples), stride lp
-	y     []float64 // store-sample rows of Y, stride lp
-	tot   []float64 // column sums of x
-	btot  []float64 // constant part of Y: -sum_j mu_j W''_j
-	w     []float64 // b x lp: W = Z_b X
-	wpp   []float64 // b x lp: W''_j = W_j / sd_j
-	part  []float64 // segments x b x lp partial first products
-	miss  [][]int32 // per block marker: samples with a missing call
-	z     []float64 // float stores: b x N standardized block
-	trace []float64 // float stores: per-marker sum of squares
-	tabs  [][]float64
-	block []byte  // kept rows of consecutive chunks, gathered into one block
-	bsels []sel   // their selections (off = row within block)
-	offs  []int32 // row offsets of the block being processed
-	err   error   // first error of a MarkerProducts callback
+	l, lp   int
+	x       []float64 // store-sample rows of X (zero for dropped samples), stride lp
+	y       []float64 // store-sample rows of Y, stride lp
+	tot     []float64 // column sums of x
+	btot    []float64 // constant part of Y: -sum_j mu_j W''_j
+	w       []float64 // b x lp: W = Z_b X
+	wpp     []float64 // b x lp: W''_j = W_j / sd_j
+	mwpp    []float64 // b x lp: mu_j W''_j
+	scratch []float64 // threads x lp
+	part    []float64 // segments x b x lp partial first products
+	miss    [][]int32 // per block marker: samples with a missing call
+	z       []float64 // float stores: b x N standardized block
+	trace   []float64 // float stores: per-marker sum of squares
+	tabs    [][]float64
+	block   []byte  // kept rows of consecutive chunks, gathered into one block
+	bsels   []sel   // their selections (off = row within block)
+	offs    []int32 // row offsets of the block being processed
+	err     error   // first error of a MarkerProducts callback
 }
 
 // blockTarget is the number of markers the 2-bit kernels want per block:
@@ -331,7 +333,7 @@ func (op *Operator) newWorkspace(x []float64, l int, second bool) *workspace {
 		ws = &workspace{l: l, lp: lp, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
 		ws.tabs = make([][]float64, op.threads)
 		for t := range ws.tabs {
-			ws.tabs[t] = make([]float64, 4*256*lp)
+			ws.tabs[t] = make([]float64, tileGroups(lp)*256*lp)
 		}
 		op.ws = ws
 	} else {

@@ -107,7 +107,7 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	target := int64(blockTarget(n, int(lp), int(rb)))
 	blockM := max(target, int64(st.ChunkMarkers()))
 	nseg := int64(len(segments(n)) - 1)
-	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*4*256*lp*8
+	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*int64(tileGroups(int(lp)))*256*lp*8
 	if st.Codec() == matrixio.CodecGeno2 && int64(st.ChunkMarkers()) < target {
 		p.KernelBytes += target * rb
 	}
