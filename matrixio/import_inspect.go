@@ -91,7 +91,8 @@ func InspectStore(ctx context.Context, path string, opt InspectOptions) (*StoreI
 	}
 	info.MissingRate = float64(miss) / (float64(info.Samples) * float64(info.Markers))
 	idx := map[string]int{}
-	for _, m := range st.Markers() {
+	for j := range st.NumMarkers() {
+		m := st.Marker(j)
 		k, ok := idx[m.Chrom]
 		if !ok {
 			k = len(info.Chromosomes)
@@ -104,7 +105,7 @@ func InspectStore(ctx context.Context, path string, opt InspectOptions) (*StoreI
 	counts := st.Counts()
 	for j := 0; j < min(opt.FirstMarkers, info.Markers); j++ {
 		c := counts[j]
-		m := st.Markers()[j]
+		m := st.Marker(j)
 		ms := MarkerSummary{Chrom: m.Chrom, Pos: m.Pos, ID: m.ID, Ref: m.Ref, Alt: m.Alt, HomRef: c.HomRef, Het: c.Het, HomAlt: c.HomAlt, Missing: c.Missing,
 			CallRate: float64(c.Called()) / float64(info.Samples)}
 		if c.Called() > 0 {

@@ -27,7 +27,7 @@ type Store struct {
 	size       int64
 	meta       Meta
 	samples    []string
-	markers    []Marker
+	markers    markerTable
 	counts     []Counts
 	sampleMiss []uint32
 	index      []chunkRec
@@ -317,6 +317,18 @@ func (t *tableReader) uvarint() uint64 {
 	return v
 }
 
+// bytes returns the next length-prefixed field without copying it.
+func (t *tableReader) bytes() []byte {
+	n := t.uvarint()
+	if t.err != nil || n > uint64(len(t.b)) || n > 4096 {
+		t.err = ErrCorrupt
+		return nil
+	}
+	v := t.b[:n:n]
+	t.b = t.b[n:]
+	return v
+}
+
 func (t *tableReader) str() string {
 	n := t.uvarint()
 	if t.err != nil || n > uint64(len(t.b)) || n > 4096 {
@@ -350,37 +362,26 @@ func (s *Store) parseMarkers(raw []byte, n int) error {
 		return fmt.Errorf("marker table: %w: %d bytes cannot hold %d markers", ErrCorrupt, len(raw), n)
 	}
 	t := &tableReader{b: raw}
-	// Chromosome names and short alleles repeat across markers: share one
-	// string each, so the table costs little more than the IDs.
-	intern := map[string]string{}
-	short := func(v string) string {
-		if len(v) > 8 {
-			return v
-		}
-		if u, ok := intern[v]; ok {
-			return u
-		}
-		if len(intern) < 4096 {
-			intern[v] = v
-		}
-		return v
-	}
-	s.markers = make([]Marker, n)
+	mb := newMarkerBuilder(n)
 	s.counts = make([]Counts, n)
 	N := uint64(s.meta.Samples)
 	for i := 0; i < n && t.err == nil; i++ {
-		m := &s.markers[i]
-		m.Chrom = short(t.str())
-		m.Pos = int64(t.uvarint())
-		m.ID = t.str()
-		m.Ref = short(t.str())
-		m.Alt = short(t.str())
-		if t.err == nil {
-			for _, f := range [...]struct{ k, v string }{{"chromosome", m.Chrom}, {"marker ID", m.ID}, {"REF allele", m.Ref}, {"ALT allele", m.Alt}} {
-				if err := validMarkerField(f.k, f.v); err != nil {
-					return fmt.Errorf("marker table: %w: marker %d: %v", ErrCorrupt, i+1, err)
-				}
+		chrom := t.bytes()
+		pos := int64(t.uvarint())
+		id, ref, alt := t.bytes(), t.bytes(), t.bytes()
+		if t.err != nil {
+			break
+		}
+		for _, f := range [...]struct {
+			k string
+			v []byte
+		}{{"chromosome", chrom}, {"marker ID", id}, {"REF allele", ref}, {"ALT allele", alt}} {
+			if err := validMarkerField(f.k, string(f.v)); err != nil {
+				return fmt.Errorf("marker table: %w: marker %d: %v", ErrCorrupt, i+1, err)
 			}
+		}
+		if err := mb.add(string(chrom), pos, id, ref, alt); err != nil {
+			return fmt.Errorf("%w: %v", ErrCorrupt, err)
 		}
 		c := &s.counts[i]
 		a, b, d, e := t.uvarint(), t.uvarint(), t.uvarint(), t.uvarint()
@@ -406,6 +407,7 @@ func (s *Store) parseMarkers(raw []byte, n int) error {
 	if len(t.b) != 0 {
 		return fmt.Errorf("marker table: %w: %d trailing bytes", ErrCorrupt, len(t.b))
 	}
+	s.markers = mb.table()
 	return nil
 }
 
@@ -422,7 +424,7 @@ func (s *Store) Codec() Codec { return s.meta.Codec }
 func (s *Store) NumSamples() int { return s.meta.Samples }
 
 // NumMarkers returns M.
-func (s *Store) NumMarkers() int { return len(s.markers) }
+func (s *Store) NumMarkers() int { return s.markers.len() }
 
 // NumChunks returns the number of chunks.
 func (s *Store) NumChunks() int { return len(s.index) }
@@ -436,8 +438,20 @@ func (s *Store) RowBytes() int { return s.rowBytes }
 // Samples returns the sample IDs in store order. Do not modify.
 func (s *Store) Samples() []string { return s.samples }
 
-// Markers returns the marker table in store order. Do not modify.
-func (s *Store) Markers() []Marker { return s.markers }
+// Markers returns a new copy of the marker table in store order (about
+// 72 bytes a marker plus shared strings); loops over a large store should
+// call Marker instead.
+func (s *Store) Markers() []Marker {
+	ms := make([]Marker, s.markers.len())
+	for i := range ms {
+		ms[i] = s.markers.at(i)
+	}
+	return ms
+}
+
+// Marker returns marker j (0-based). It does not allocate: prefer it to
+// Markers in loops over large stores.
+func (s *Store) Marker(j int) Marker { return s.markers.at(j) }
 
 // Counts returns the per-marker counts stored at import. Do not modify.
 func (s *Store) Counts() []Counts { return s.counts }

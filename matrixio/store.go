@@ -236,7 +236,7 @@ func RowBytes(c Codec, n int) int {
 }
 
 // DefaultChunkMarkers picks markers per chunk so a decoded chunk is about
-// 4 MiB, between 8 and 8192 markers: large enough that the per-chunk costs
+// 1 MiB, between 8 and 8192 markers: large enough that the per-chunk costs
 // of the PCA kernels (group tables, bucket sums) are small against the
 // per-marker work, small enough that a few chunk buffers stay cheap.
 func DefaultChunkMarkers(c Codec, samples int) int {
@@ -244,7 +244,7 @@ func DefaultChunkMarkers(c Codec, samples int) int {
 	if rb == 0 {
 		return 4096
 	}
-	b := (4 << 20) / rb
+	b := (1 << 20) / rb
 	if b < 8 {
 		b = 8
 	}

@@ -90,14 +90,13 @@ func ExportVCF(ctx context.Context, path, out string, opt ExportOptions) (*Expor
 	if err != nil {
 		return nil, err
 	}
-	markers := st.Markers()
 	var chunks []int
 	nsel := 0
 	for c := 0; c < st.NumChunks(); c++ {
 		first, n := st.ChunkSpan(c)
 		any := false
 		for j := first; j < first+n; j++ {
-			if chromOK(markers[j].Chrom) {
+			if chromOK(st.Marker(j).Chrom) {
 				any = true
 				nsel++
 			}
@@ -126,7 +125,7 @@ func ExportVCF(ctx context.Context, path, out string, opt ExportOptions) (*Expor
 	subset := len(keep) != N
 	err = st.Stream(ctx, chunks, opt.Threads, func(c *Chunk) error {
 		for j := 0; j < c.N; j++ {
-			m := markers[c.First+j]
+			m := st.Marker(c.First + j)
 			if !chromOK(m.Chrom) {
 				continue
 			}

@@ -44,7 +44,7 @@ func Files(prefix string) []string {
 func storeInfo(st *matrixio.Store) StoreInfo {
 	return StoreInfo{Path: st.Path(), Bytes: st.Size(), Samples: st.NumSamples(), Markers: st.NumMarkers(),
 		Codec: string(st.Codec()), Fingerprint: st.Fingerprint(),
-		SampleSHA256: sampleDigest(st.Samples()), MarkerSHA256: markerDigest(st.Markers())}
+		SampleSHA256: sampleDigest(st.Samples()), MarkerSHA256: markerDigest(st)}
 }
 
 // sampleDigest is the SHA-256 of the sample IDs, each followed by '\n'.
@@ -61,12 +61,12 @@ func sampleDigest(ids []string) string {
 
 // markerDigest is the SHA-256 of the marker table as lines
 // "chrom\tpos\tid\tref\talt\n".
-func markerDigest(ms []matrixio.Marker) string {
+func markerDigest(st *matrixio.Store) string {
 	h := sha256.New()
 	bw := bufio.NewWriterSize(h, 1<<16)
 	var b []byte
-	for _, m := range ms {
-		b = appendMarker(b[:0], m)
+	for j := range st.NumMarkers() {
+		b = appendMarker(b[:0], st.Marker(j))
 		b = append(b, '\n')
 		bw.Write(b)
 	}
@@ -179,7 +179,8 @@ func (s *Selection) Write(prefix string, st *matrixio.Store) error {
 	zb.WriteString(strings.Join(hdr, "\t") + "\n")
 	nk := s.NumKeptSamples()
 	var line []byte
-	for j, m := range st.Markers() {
+	for j := range st.NumMarkers() {
+		m := st.Marker(j)
 		c := s.Counts[j]
 		ms := Stats(c, nk, float)
 		line = appendMarker(line[:0], m)
@@ -262,7 +263,7 @@ func Load(prefix string, st *matrixio.Store) (*Selection, error) {
 		return nil, matrixio.BadInput("%s: QC ran on a %s store, %s is %s", paths[0], si.Codec, st.Path(), st.Codec())
 	case si.SampleSHA256 != sampleDigest(st.Samples()):
 		return nil, matrixio.BadInput("%s: the sample IDs differ from those of %s (QC ran on %s)", paths[0], st.Path(), si.Path)
-	case si.MarkerSHA256 != markerDigest(st.Markers()):
+	case si.MarkerSHA256 != markerDigest(st):
 		return nil, matrixio.BadInput("%s: the marker table differs from that of %s (QC ran on %s)", paths[0], st.Path(), si.Path)
 	case si.Fingerprint != st.Fingerprint():
 		return nil, matrixio.BadInput("%s: same samples and markers but different genotype data than %s (QC ran on %s); rerun clinal qc", paths[0], st.Path(), si.Path)
@@ -418,9 +419,9 @@ func loadMarkers(path string, st *matrixio.Store, sel *Selection, withCounts boo
 	if err != nil {
 		return err
 	}
-	ms := st.Markers()
+	nm := st.NumMarkers()
 	if withCounts {
-		sel.Counts = make([]matrixio.Counts, len(ms))
+		sel.Counts = make([]matrixio.Counts, nm)
 	}
 	nk := uint64(countTrue(sel.SampleKept))
 	var ident []byte
@@ -433,18 +434,18 @@ func loadMarkers(path string, st *matrixio.Store, sel *Selection, withCounts boo
 			return err
 		}
 		if fl == nil {
-			if j != len(ms) {
-				return matrixio.BadInput("%s: %d markers, the store has %d", path, j, len(ms))
+			if j != nm {
+				return matrixio.BadInput("%s: %d markers, the store has %d", path, j, nm)
 			}
 			return nil
 		}
-		if j >= len(ms) {
-			return t.errorf("more rows than the store's %d markers", len(ms))
+		if j >= nm {
+			return t.errorf("more rows than the store's %d markers", nm)
 		}
 		if len(fl) != len(hdr) {
 			return t.errorf("%d fields, want %d", len(fl), len(hdr))
 		}
-		ident = appendMarker(ident[:0], ms[j])
+		ident = appendMarker(ident[:0], st.Marker(j))
 		if got := strings.Join(fl[:5], "\t"); got != string(ident) {
 			return t.errorf("marker %q, the store's marker %d is %q", got, j+1, ident)
 		}

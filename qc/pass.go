@@ -64,14 +64,13 @@ func (p *pass) run(ctx context.Context) error {
 	st, sel := p.st, p.sel
 	M := st.NumMarkers()
 	nk := len(p.keptIdx)
-	markers := st.Markers()
 
 	// Runs of one chromosome name.
 	type run struct{ a, b int }
 	var runs []run
 	for j := 0; j < M; {
 		k := j + 1
-		for k < M && markers[k].Chrom == markers[j].Chrom {
+		for k < M && st.Marker(k).Chrom == st.Marker(j).Chrom {
 			k++
 		}
 		runs = append(runs, run{j, k})
@@ -117,7 +116,7 @@ func (p *pass) run(ctx context.Context) error {
 			if has < 0 {
 				continue
 			}
-			c := markers[r.a].Chrom
+			c := st.Marker(r.a).Chrom
 			if j0, ok := first[c]; ok {
 				return matrixio.BadInput("%s: chromosome %q appears in two separate blocks (markers %d and %d): LD pruning needs each chromosome's markers together and sorted by position; import sorted input or set --ld-r2 0",
 					st.Path(), c, j0+1, has+1)
@@ -185,7 +184,6 @@ func (p *pass) runUnit(ctx context.Context, u unit, res *unitResult) error {
 		codes = make([]byte, N)
 	}
 	pool := &rowPool{words: p.words, nk: nk, float: p.f.float}
-	markers := st.Markers()
 	var w *ldWindow
 	var scratch *ldRow
 	flush := func() {
@@ -248,7 +246,7 @@ func (p *pass) runUnit(ctx context.Context, u unit, res *unitResult) error {
 				r = pool.get()
 				r.fillCodes(codes, p.keptIdx, p.mask)
 			}
-			m := &markers[j]
+			m := st.Marker(j)
 			if w == nil || m.Chrom != w.chrom {
 				flush()
 				w = &ldWindow{p: p, chrom: m.Chrom, pool: pool}
@@ -317,9 +315,8 @@ func (w *ldWindow) row(i int) *ldRow { return w.rows[i-w.base] }
 func (w *ldWindow) add(j int, pos int64, r *ldRow) error {
 	p := w.p
 	if w.n > 0 && p.win.BP > 0 && pos < w.lastPos {
-		m := p.st.Markers()
 		return matrixio.BadInput("%s: marker %d (%s:%d) comes after marker %d (%s:%d): LD windows in bp need markers sorted by position within a chromosome",
-			p.st.Path(), j+1, m[j].Chrom, pos, w.lastIdx+1, m[w.lastIdx].Chrom, w.lastPos)
+			p.st.Path(), j+1, p.st.Marker(j).Chrom, pos, w.lastIdx+1, p.st.Marker(w.lastIdx).Chrom, w.lastPos)
 	}
 	w.lastPos, w.lastIdx = pos, j
 	r.idx, r.pos, r.dropped = j, pos, false

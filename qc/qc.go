@@ -250,7 +250,8 @@ func Run(ctx context.Context, st *matrixio.Store, opt Options) (*Selection, erro
 	}
 	present := map[string]bool{}
 	prev, prevIn := "", false
-	for j, m := range st.Markers() {
+	for j := range st.NumMarkers() {
+		m := st.Marker(j)
 		if j == 0 || m.Chrom != prev {
 			prev = m.Chrom
 			prevIn = chroms.Contains(m.Chrom)

@@ -73,15 +73,17 @@ type OperatorOptions struct {
 // buffers between applications and is not safe for concurrent use.
 type Operator struct {
 	st      *matrixio.Store
-	n       int   // store samples
-	kept    []int // kept sample -> store index
-	markers []int // kept markers (store indices), ascending
+	n       int     // store samples
+	kept    []int   // kept sample -> store index
+	markers []int32 // kept markers (store indices), ascending
 	center  []float64
 	scale   []float64
 	chunks  []int
-	// chunkSel[c] lists offsets within chunk c of kept markers and their
-	// kept-marker ordinal.
-	chunkSel map[int][]sel
+	// chunkLo[c] is the first kept-marker ordinal of chunk c (len chunks
+	// of the store + 1): the kept markers of chunk c are
+	// markers[chunkLo[c]:chunkLo[c+1]]. Selections are rebuilt from it per
+	// chunk, so the operator keeps 20 bytes a marker.
+	chunkLo  []int32
 	threads  int
 	buffers  int
 	trace    float64
@@ -117,6 +119,9 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 	if opt.MarkerKept != nil && len(opt.MarkerKept) != m {
 		return nil, fmt.Errorf("operator: marker mask of %d for %d markers", len(opt.MarkerKept), m)
 	}
+	if m > math.MaxInt32 {
+		return nil, matrixio.BadInput("operator: %d markers; at most %d are supported", m, math.MaxInt32)
+	}
 	counts := opt.Counts
 	if counts == nil {
 		counts = st.Counts()
@@ -134,7 +139,7 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		opt.Buffers = opt.Threads + 1
 	}
 	op := &Operator{st: st, n: n, threads: opt.Threads, buffers: opt.Buffers,
-		float: st.Codec() == matrixio.CodecFloat32, progress: opt.Progress, chunkSel: map[int][]sel{}}
+		float: st.Codec() == matrixio.CodecFloat32, progress: opt.Progress}
 	op.segs = segments(n)
 	op.isKept = make([]bool, n)
 	for i := 0; i < n; i++ {
@@ -156,6 +161,21 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 			inChunk[c] = true
 		}
 	}
+	// Size the per-marker tables once (no append slack: they are most of
+	// the operator's memory on large stores).
+	nsel := m
+	if opt.MarkerKept != nil {
+		nsel = 0
+		for _, k := range opt.MarkerKept {
+			if k {
+				nsel++
+			}
+		}
+	}
+	op.markers = make([]int32, 0, nsel)
+	op.chunkLo = make([]int32, st.NumChunks()+1)
+	op.center = make([]float64, 0, nsel)
+	op.scale = make([]float64, 0, nsel)
 	for j := 0; j < m; j++ {
 		if opt.MarkerKept != nil && !opt.MarkerKept[j] {
 			continue
@@ -197,8 +217,7 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		if inChunk != nil && !inChunk[st.ChunkOf(j)] {
 			continue
 		}
-		ord := len(op.markers)
-		op.markers = append(op.markers, j)
+		op.markers = append(op.markers, int32(j))
 		op.center = append(op.center, mu)
 		op.scale = append(op.scale, 1/sd)
 		if !op.float {
@@ -210,11 +229,14 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 			op.trace += float64(c.HomRef)*t[0]*t[0] + float64(c.Het)*t[1]*t[1] + float64(c.HomAlt)*t[2]*t[2]
 		}
 		ch := st.ChunkOf(j)
-		first, _ := st.ChunkSpan(ch)
-		if _, ok := op.chunkSel[ch]; !ok {
+		if len(op.chunks) == 0 || op.chunks[len(op.chunks)-1] != ch {
 			op.chunks = append(op.chunks, ch)
 		}
-		op.chunkSel[ch] = append(op.chunkSel[ch], sel{off: int32(j - first), ord: int32(ord)})
+		op.chunkLo[ch+1] = int32(len(op.markers))
+	}
+	// Chunks without kept markers start where the previous one ended.
+	for c := 1; c < len(op.chunkLo); c++ {
+		op.chunkLo[c] = max(op.chunkLo[c], op.chunkLo[c-1])
 	}
 	if op.mTotal == 0 {
 		return nil, matrixio.BadInput("operator: no polymorphic markers left after filters")
@@ -236,7 +258,24 @@ func (op *Operator) KeptSamples() []int { return op.kept }
 
 // KeptMarkers returns the store indices of the markers this operator
 // streams (all of the selection, or those of its shard).
-func (op *Operator) KeptMarkers() []int { return op.markers }
+func (op *Operator) KeptMarkers() []int {
+	out := make([]int, len(op.markers))
+	for i, j := range op.markers {
+		out[i] = int(j)
+	}
+	return out
+}
+
+// sels returns the selections of chunk c (offset within the chunk and
+// kept-marker ordinal of each kept marker), built into buf.
+func (op *Operator) sels(c int, buf []sel) []sel {
+	first, _ := op.st.ChunkSpan(c)
+	buf = buf[:0]
+	for ord := op.chunkLo[c]; ord < op.chunkLo[c+1]; ord++ {
+		buf = append(buf, sel{off: op.markers[ord] - int32(first), ord: ord})
+	}
+	return buf
+}
 
 // Standardization returns the centre and the inverse scale of each kept
 // marker, in KeptMarkers order.
@@ -272,6 +311,7 @@ type workspace struct {
 	tabs    [][]float64
 	block   []byte  // kept rows of consecutive chunks, gathered into one block
 	bsels   []sel   // their selections (off = row within block)
+	csels   []sel   // selections of the chunk being processed
 	offs    []int32 // row offsets of the block being processed
 	err     error   // first error of a MarkerProducts callback
 }
@@ -294,7 +334,8 @@ func blockTarget(n, lp, rb int) int {
 // through; smaller ones are copied together first (the copy costs one read
 // of the packed rows, much less than the kernels).
 func (op *Operator) gatherBlock(ws *workspace, c *matrixio.Chunk, process func(*workspace, []byte, []sel)) {
-	sels := op.chunkSel[c.Index]
+	ws.csels = op.sels(c.Index, ws.csels)
+	sels := ws.csels
 	target := op.blockTarget(ws.lp)
 	if len(ws.bsels) == 0 && len(sels) >= target {
 		process(ws, c.Raw, sels)
@@ -438,7 +479,8 @@ func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn f
 			return err
 		}
 		if op.float {
-			sels := op.chunkSel[c.Index]
+			ws.csels = op.sels(c.Index, ws.csels)
+			sels := ws.csels
 			op.floatFirst(ws, c, sels)
 			return emit(sels)
 		}
@@ -502,7 +544,8 @@ func grow(b []float64, n int) []float64 {
 
 // floatChunk applies one chunk of float values with dense products.
 func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
-	sels := op.chunkSel[c.Index]
+	ws.csels = op.sels(c.Index, ws.csels)
+	sels := ws.csels
 	l, lp, n := ws.l, ws.lp, op.n
 	nb := len(sels)
 	tr := op.floatFirst(ws, c, sels)

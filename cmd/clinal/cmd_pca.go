@@ -195,10 +195,11 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		// The promise covers the Go heap too: make the collector keep to it.
 		debug.SetMemoryLimit(int64(o.memory) * 9 / 10)
 	} else {
-		// The long-lived data (tables, solver blocks) dominate the heap; a
-		// tighter collector target keeps the peak near the live size at the
-		// cost of a few cheap collections per pass.
-		debug.SetGCPercent(40)
+		// The long-lived data (tables, solver blocks) dominate the heap and
+		// hold almost no pointers (the marker table is one string and flat
+		// arrays), so collections are cheap: a tight collector target keeps
+		// the peak near the live size.
+		debug.SetGCPercent(25)
 	}
 	ph.start("open")
 	st, err := matrixio.Open(storePath)
@@ -423,7 +424,7 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 	center, inv := op.Standardization()
 	err = randsvd.Loadings(ctx, op, res, func(ord int, v []float64) error {
 		j := kept[ord]
-		return lw.Write(st.Markers()[j], center[ord]/2, 1/inv[ord], v)
+		return lw.Write(st.Marker(j), center[ord]/2, 1/inv[ord], v)
 	})
 	if err != nil {
 		lw.Abort()

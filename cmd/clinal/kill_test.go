@@ -35,7 +35,11 @@ import (
 // remain (counted and reported: SIGKILL gives no chance to remove them).
 // For pca the same command is then rerun: it resumes from PREFIX.checkpoint
 // and must give covariates.tsv, spectrum.tsv and loadings.tsv.gz
-// byte-identical to an uninterrupted run.
+// byte-identical to an uninterrupted run. For cluster runs (the driver with
+// --local shard steps, after a plan that is not killed) the rerun is
+// `clinal cluster resume RUNDIR --local`: it must accept the run directory
+// the kill left (its manifest, selection, blocks, partials and state are
+// checksummed and re-verified on resume) and give the same three files.
 //
 // CLINAL_KILL_TRIALS sets the trials per command (default 5; the recorded
 // run in benchmarks/memory/README.md used 20), CLINAL_KILL_SEED the seed
@@ -76,8 +80,14 @@ type kbCommand struct {
 	name string
 	args func(out string) []string
 	// compare lists the outputs that must be byte-identical after a resume
-	// (pca only).
+	// (pca and cluster).
 	compare []string
+	// setup, when set, runs to completion before the command (not killed);
+	// rerun, when set, replaces the command for the rerun after a kill;
+	// skipDir names a subdirectory of the output that kbCheckDir leaves to
+	// the rerun (the cluster run directory).
+	setup, rerun func(out string) []string
+	skipDir      string
 }
 
 func (k *kbTool) commands() []kbCommand {
@@ -91,6 +101,14 @@ func (k *kbTool) commands() []kbCommand {
 		{name: "pca", args: func(out string) []string {
 			return []string{"pca", k.store, "-k", "4", "--seed", "5", "--threads", "2", "-o", filepath.Join(out, "p")}
 		}, compare: []string{"p.covariates.tsv", "p.spectrum.tsv", "p.loadings.tsv.gz"}},
+		{name: "cluster", setup: func(out string) []string {
+			return []string{"cluster", "plan", k.store, "-k", "4", "--seed", "5", "--shards", "3", "-o", filepath.Join(out, "p"),
+				"--run-dir", filepath.Join(out, "rd")}
+		}, args: func(out string) []string {
+			return []string{"cluster", "run", filepath.Join(out, "rd"), "--local", "--threads", "2", "--local-jobs", "2"}
+		}, rerun: func(out string) []string {
+			return []string{"cluster", "resume", filepath.Join(out, "rd"), "--local", "--threads", "2", "--local-jobs", "2"}
+		}, skipDir: "rd", compare: []string{"p.covariates.tsv", "p.spectrum.tsv", "p.loadings.tsv.gz"}},
 	}
 }
 
@@ -122,11 +140,17 @@ func TestKillSafety(t *testing.T) {
 	for _, cmd := range k.commands() {
 		t.Run(cmd.name, func(t *testing.T) {
 			base := t.TempDir()
+			if cmd.setup != nil {
+				k.run(t, cmd.setup(base))
+			}
 			normal, _ := k.run(t, cmd.args(base))
 			var corrupt, partials, finals, resumed, equal, kills int
 			var minD, maxD time.Duration
 			for trial := 0; trial < trials; trial++ {
 				out := t.TempDir()
+				if cmd.setup != nil {
+					k.run(t, cmd.setup(out))
+				}
 				// A delay within the normal run time, after the child has
 				// had 20 ms to start.
 				d := 20*time.Millisecond + time.Duration(rng.Int64N(int64(normal)))
@@ -144,7 +168,7 @@ func TestKillSafety(t *testing.T) {
 				if ws, ok := c.ProcessState.Sys().(syscall.WaitStatus); ok && ws.Signaled() {
 					kills++
 				}
-				f, p, bad := kbCheckDir(t, out)
+				f, p, bad := kbCheckDir(t, out, cmd.skipDir)
 				finals += f
 				partials += p
 				corrupt += len(bad)
@@ -154,8 +178,12 @@ func TestKillSafety(t *testing.T) {
 				if cmd.compare == nil {
 					continue
 				}
-				_, msg := k.run(t, cmd.args(out))
-				if strings.Contains(msg, "resuming from pass") {
+				rerun := cmd.args(out)
+				if cmd.rerun != nil {
+					rerun = cmd.rerun(out)
+				}
+				_, msg := k.run(t, rerun)
+				if strings.Contains(msg, "resuming from pass") || strings.Contains(msg, "cluster: resuming") {
 					resumed++
 				}
 				same := true
@@ -184,7 +212,7 @@ func TestKillSafety(t *testing.T) {
 // temporaries are counted, every other file must be complete for its
 // type. It returns the number of final files, of temporaries, and the
 // problems found.
-func kbCheckDir(t *testing.T, dir string) (finals, partials int, bad []string) {
+func kbCheckDir(t *testing.T, dir, skipDir string) (finals, partials int, bad []string) {
 	t.Helper()
 	es, err := os.ReadDir(dir)
 	if err != nil {
@@ -193,6 +221,9 @@ func kbCheckDir(t *testing.T, dir string) (finals, partials int, bad []string) {
 	for _, e := range es {
 		name := e.Name()
 		p := filepath.Join(dir, name)
+		if e.IsDir() && name == skipDir {
+			continue
+		}
 		if strings.HasPrefix(name, ".") && strings.HasSuffix(name, ".partial") {
 			partials++
 			continue
@@ -358,7 +389,7 @@ func TestSignalStop(t *testing.T) {
 					if !strings.HasSuffix(stderr, want) {
 						t.Errorf("stderr %q, want it to end with %q", stderr, want)
 					}
-					_, partials, bad := kbCheckDir(t, out)
+					_, partials, bad := kbCheckDir(t, out, "")
 					if partials != 0 {
 						t.Errorf("%d *.partial temporaries left after %s", partials, sig)
 					}
