@@ -7,7 +7,8 @@ import (
 	"testing"
 )
 
-// BenchmarkPass measures one application of K (a pass over the store) and
+// BenchmarkPass measures one application of K (a pass over the store),
+// exact (float64) and fast (float32 tables, fast.go), and
 // reports genotypes per second and the dense-equivalent GFLOP/s (4*N*M*l
 // flops per pass, design.md performance model).
 func BenchmarkPass(b *testing.B) {
@@ -19,22 +20,28 @@ func BenchmarkPass(b *testing.B) {
 		x[i] = r.NormFloat64()
 	}
 	y := make([]float64, n*l)
-	for _, th := range []int{1, 2} {
-		b.Run(fmt.Sprintf("threads=%d", th), func(b *testing.B) {
-			op, err := NewOperator(st, OperatorOptions{Threads: th})
-			if err != nil {
-				b.Fatal(err)
-			}
-			b.ReportAllocs()
-			b.ResetTimer()
-			for i := 0; i < b.N; i++ {
-				if err := op.Apply(context.Background(), x, y, l); err != nil {
+	for _, mode := range []string{"exact", "fast"} {
+		for _, th := range []int{1, 2} {
+			b.Run(fmt.Sprintf("%s/threads=%d", mode, th), func(b *testing.B) {
+				op, err := NewOperator(st, OperatorOptions{Threads: th})
+				if err != nil {
 					b.Fatal(err)
 				}
-			}
-			sec := b.Elapsed().Seconds() / float64(b.N)
-			b.ReportMetric(float64(n)*float64(m)/sec/1e9, "Ggeno/s")
-			b.ReportMetric(4*float64(n)*float64(m)*float64(l)/sec/1e9, "GFLOP/s-equiv")
-		})
+				apply := op.Apply
+				if mode == "fast" {
+					apply = op.ApplyFast
+				}
+				b.ReportAllocs()
+				b.ResetTimer()
+				for i := 0; i < b.N; i++ {
+					if err := apply(context.Background(), x, y, l); err != nil {
+						b.Fatal(err)
+					}
+				}
+				sec := b.Elapsed().Seconds() / float64(b.N)
+				b.ReportMetric(float64(n)*float64(m)/sec/1e9, "Ggeno/s")
+				b.ReportMetric(4*float64(n)*float64(m)*float64(l)/sec/1e9, "GFLOP/s-equiv")
+			})
+		}
 	}
 }

@@ -17,8 +17,10 @@ import (
 // that was killed resumes where it stopped and gives the same numbers as
 // an uninterrupted one. Layout (little endian): magic "CLNLCKPT", u32
 // version, key (length-prefixed string identifying inputs and parameters),
-// u64 pass, l, n, k-history rows and width, then U, AU, Theta, the history
-// and TraceSqEst as float64, and a CRC32C of everything before it.
+// u64 pass, l, n, k-history rows and width, then U, AU, Theta, the history,
+// TraceSqEst and PrevCaptured as float64, (version 2) u64 fast flag and
+// fast passes, and a CRC32C of everything before it. Version 1 files
+// (before fast passes) read as exact states.
 
 var ckptMagic = [8]byte{'C', 'L', 'N', 'L', 'C', 'K', 'P', 'T'}
 
@@ -34,7 +36,7 @@ func WriteCheckpoint(path, key string, st *State) error {
 		bw := bufio.NewWriter(io.MultiWriter(w, h))
 		bw.Write(ckptMagic[:])
 		put := func(v uint64) { binary.Write(bw, binary.LittleEndian, v) }
-		put(1)
+		put(2)
 		put(uint64(len(key)))
 		bw.WriteString(key)
 		hw := 0
@@ -56,6 +58,12 @@ func WriteCheckpoint(path, key string, st *State) error {
 			f(r)
 		}
 		f([]float64{st.TraceSqEst, st.PrevCaptured})
+		fast := uint64(0)
+		if st.Fast {
+			fast = 1
+		}
+		put(fast)
+		put(uint64(st.FastPasses))
 		if err := bw.Flush(); err != nil {
 			return err
 		}
@@ -92,7 +100,8 @@ func ReadCheckpoint(path, key string) (*State, error) {
 		r = r[8:]
 		return v
 	}
-	if get() != 1 {
+	ver := get()
+	if ver != 1 && ver != 2 {
 		return nil, bad("unknown version")
 	}
 	kl := get()
@@ -105,6 +114,9 @@ func ReadCheckpoint(path, key string) (*State, error) {
 	r = r[kl:]
 	pass, l, n, hr, hw := get(), get(), get(), get(), get()
 	need := (2*n*l + l + hr*hw + 2) * 8
+	if ver == 2 {
+		need += 2 * 8 // fast flag and fast passes
+	}
 	if n == 0 || l == 0 || n > 1<<32 || l > 1<<16 || hr > 1<<20 || hw > 1<<16 || uint64(len(r)) != need {
 		return nil, bad("sizes do not match the file")
 	}
@@ -124,5 +136,12 @@ func ReadCheckpoint(path, key string) (*State, error) {
 	}
 	tail := f(2)
 	st.TraceSqEst, st.PrevCaptured = tail[0], tail[1]
+	if ver == 2 {
+		fast, fp := get(), get()
+		if fast > 1 || fp > pass {
+			return nil, bad("bad fast-pass fields")
+		}
+		st.Fast, st.FastPasses = fast == 1, int(fp)
+	}
 	return st, nil
 }

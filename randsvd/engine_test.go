@@ -165,7 +165,7 @@ func TestOperatorMatchesDense(t *testing.T) {
 	}
 	want := make([]float64, len(x))
 	ref.Apply(context.Background(), x, want, l)
-	var first []float64
+	var first, firstFast []float64
 	for _, th := range []int{1, 3} {
 		op, err := NewOperator(st, OperatorOptions{Threads: th})
 		if err != nil {
@@ -186,6 +186,33 @@ func TestOperatorMatchesDense(t *testing.T) {
 			for i := range got {
 				if got[i] != first[i] {
 					t.Fatalf("threads %d: y[%d] differs bitwise from threads 1", th, i)
+				}
+			}
+		}
+		// A fast pass (float32 tables, fast.go) agrees with the dense
+		// float64 K X to 1e-6 in norm (the float32 unit roundoff is
+		// 6e-8; fast.go's policy promises about 1e-7), and bit for bit
+		// across thread counts.
+		fast := make([]float64, len(x))
+		if err := op.ApplyFast(context.Background(), x, fast, l); err != nil {
+			t.Fatal(err)
+		}
+		var dn, wn float64
+		for i := range fast {
+			dn += (fast[i] - want[i]) * (fast[i] - want[i])
+			wn += want[i] * want[i]
+		}
+		if rel := math.Sqrt(dn / wn); rel > 1e-6 || rel == 0 {
+			t.Errorf("threads %d: fast pass relative error %g, want in (0, 1e-6]", th, rel)
+		} else {
+			t.Logf("threads %d: fast pass relative error %.2g", th, rel)
+		}
+		if firstFast == nil {
+			firstFast = fast
+		} else {
+			for i := range fast {
+				if fast[i] != firstFast[i] {
+					t.Fatalf("threads %d: fast y[%d] differs bitwise from threads 1", th, i)
 				}
 			}
 		}

@@ -198,6 +198,110 @@ func main() {
 		p("\tVZEROUPPER")
 		p("\tRET")
 	}
+	for nv := 1; nv <= 4; nv++ {
+		// Float32 gather: two markers at a time, f32 sums over the tile's
+		// groups, then widened and added to the float64 rows.
+		p("")
+		p("// func gather32V%d(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)", nv)
+		p("TEXT ·gather32V%d(SB), NOSPLIT, $0-56", nv)
+		prologue32(p, "dst", "tab")
+		p("\tCMPQ CX, $2")
+		p("\tJLT h%dsingle", nv)
+		p("h%dpair:", nv)
+		p("\tMOVLQSX (R9), AX")
+		p("\tLEAQ (R8)(AX*1), BX")
+		p("\tMOVLQSX 4(R9), AX")
+		p("\tLEAQ (R8)(AX*1), R14")
+		for i := 0; i < 2*nv; i++ {
+			p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
+		}
+		p("\tMOVQ SI, R13")
+		p("\tMOVQ R10, DX")
+		p("h%dpinner:", nv)
+		p("\tMOVBQZX (BX), AX")
+		p("\tIMULQ R11, AX")
+		p("\tADDQ R13, AX")
+		p("\tMOVBQZX (R14), R15")
+		p("\tIMULQ R11, R15")
+		p("\tADDQ R13, R15")
+		for i := 0; i < nv; i++ {
+			p("\tVADDPS %d(AX), Y%d, Y%d", 32*i, i, i)
+			p("\tVADDPS %d(R15), Y%d, Y%d", 32*i, nv+i, nv+i)
+		}
+		p("\tINCQ BX")
+		p("\tINCQ R14")
+		p("\tADDQ R12, R13")
+		p("\tDECQ DX")
+		p("\tJNZ h%dpinner", nv)
+		widen(p, nv, 0, "DI", 0)
+		p("\tADDQ R11, DI")
+		p("\tADDQ R11, DI")
+		widen(p, nv, nv, "DI", 0)
+		p("\tADDQ R11, DI")
+		p("\tADDQ R11, DI")
+		p("\tADDQ $8, R9")
+		p("\tSUBQ $2, CX")
+		p("\tCMPQ CX, $2")
+		p("\tJGE h%dpair", nv)
+		p("h%dsingle:", nv)
+		p("\tTESTQ CX, CX")
+		p("\tJZ h%ddone", nv)
+		p("\tMOVLQSX (R9), AX")
+		p("\tLEAQ (R8)(AX*1), BX")
+		for i := 0; i < nv; i++ {
+			p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
+		}
+		p("\tMOVQ SI, R13")
+		p("\tMOVQ R10, DX")
+		p("h%dinner:", nv)
+		p("\tMOVBQZX (BX), AX")
+		p("\tIMULQ R11, AX")
+		p("\tADDQ R13, AX")
+		for i := 0; i < nv; i++ {
+			p("\tVADDPS %d(AX), Y%d, Y%d", 32*i, i, i)
+		}
+		p("\tINCQ BX")
+		p("\tADDQ R12, R13")
+		p("\tDECQ DX")
+		p("\tJNZ h%dinner", nv)
+		widen(p, nv, 0, "DI", 0)
+		p("h%ddone:", nv)
+		p("\tVZEROUPPER")
+		p("\tRET")
+
+		p("")
+		p("// func scatter32V%d(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)", nv)
+		p("TEXT ·scatter32V%d(SB), NOSPLIT, $0-56", nv)
+		prologue32(p, "buck", "src")
+		p("t%dloop:", nv)
+		p("\tMOVLQSX (R9), AX")
+		p("\tLEAQ (R8)(AX*1), BX")
+		for i := 0; i < nv; i++ {
+			p("\tVMOVUPS %d(SI), Y%d", 32*i, i)
+		}
+		p("\tMOVQ DI, R13")
+		p("\tMOVQ R10, DX")
+		p("t%dinner:", nv)
+		p("\tMOVBQZX (BX), AX")
+		p("\tIMULQ R11, AX")
+		p("\tADDQ R13, AX")
+		for i := 0; i < nv; i++ {
+			p("\tVADDPS %d(AX), Y%d, Y%d", 32*i, i, 8+i)
+		}
+		for i := 0; i < nv; i++ {
+			p("\tVMOVUPS Y%d, %d(AX)", 8+i, 32*i)
+		}
+		p("\tINCQ BX")
+		p("\tADDQ R12, R13")
+		p("\tDECQ DX")
+		p("\tJNZ t%dinner", nv)
+		p("\tADDQ R11, SI")
+		p("\tADDQ $4, R9")
+		p("\tDECQ CX")
+		p("\tJNZ t%dloop", nv)
+		p("\tVZEROUPPER")
+		p("\tRET")
+	}
 	if err := os.WriteFile("tiles_amd64.s", b.Bytes(), 0o644); err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		os.Exit(1)
@@ -218,4 +322,35 @@ func prologue(p func(string, ...any), a0, a1 string) {
 	p("\tSHLQ $3, R11")
 	p("\tMOVQ R11, R12")
 	p("\tSHLQ $8, R12")
+}
+
+// prologue32 is prologue for float32 tables: R11 is the float32 row
+// stride lp*4 (the float64 rows of the gather are 2*R11 apart).
+func prologue32(p func(string, ...any), a0, a1 string) {
+	p("\tMOVQ %s+0(FP), DI", a0)
+	p("\tMOVQ %s+8(FP), SI", a1)
+	p("\tMOVQ raw+16(FP), R8")
+	p("\tMOVQ offs+24(FP), R9")
+	p("\tMOVQ n+32(FP), CX")
+	p("\tMOVQ ng+40(FP), R10")
+	p("\tMOVQ lp+48(FP), R11")
+	p("\tSHLQ $2, R11")
+	p("\tMOVQ R11, R12")
+	p("\tSHLQ $8, R12")
+}
+
+// widen adds the nv float32 accumulators Y(first)..Y(first+nv-1), widened
+// to float64, to the float64 row at base: 8 floats make two float64
+// vectors, low half first.
+func widen(p func(string, ...any), nv, first int, base string, off int) {
+	for i := 0; i < nv; i++ {
+		r := first + i
+		p("\tVCVTPS2PD X%d, Y14", r)
+		p("\tVADDPD %d(%s), Y14, Y14", off+64*i, base)
+		p("\tVMOVUPD Y14, %d(%s)", off+64*i, base)
+		p("\tVEXTRACTF128 $1, Y%d, X15", r)
+		p("\tVCVTPS2PD X15, Y15")
+		p("\tVADDPD %d(%s), Y15, Y15", off+64*i+32, base)
+		p("\tVMOVUPD Y15, %d(%s)", off+64*i+32, base)
+	}
 }

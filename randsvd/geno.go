@@ -165,15 +165,7 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	op.forEach(nseg, func(sg, t int) {
 		part := ws.part[sg*nb*lp : (sg+1)*nb*lp]
 		clear(part)
-		tab := ws.tabs[t]
-		ng := tileGroups(lp)
-		for g, end := segs[sg]/4, (segs[sg+1]+3)/4; g < end; g += ng {
-			nt := min(ng, end-g)
-			for u := 0; u < nt; u++ {
-				buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, g+u, n, lp)
-			}
-			gatherTile(part, tab, raw, offs, g, nt, lp)
-		}
+		op.firstTiles(ws, part, raw, offs, sg, t)
 	})
 	ws.scratch = grow(ws.scratch, op.threads*lp)
 	op.forEach(nb, func(q, t int) {
@@ -207,7 +199,7 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 
 // genoChunk applies one chunk of 2-bit calls: Y += Z_b^T Z_b X.
 func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
-	lp, n, nb := ws.lp, op.n, len(sels)
+	lp, nb := ws.lp, len(sels)
 	op.genoFirst(ws, raw, sels)
 	ws.wpp = grow(ws.wpp, nb*lp)
 	ws.mwpp = grow(ws.mwpp, nb*lp)
@@ -222,24 +214,17 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 			ws.btot[k] -= md[k]
 		}
 	}
+	if ws.fast {
+		ws.wpp32 = grow32(ws.wpp32, nb*lp)
+		for i, v := range ws.wpp[:nb*lp] {
+			ws.wpp32[i] = float32(v)
+		}
+	}
 	offs := ws.offs // set by genoFirst for these sels
 	segs := op.segs
 	op.forEach(len(segs)-1, func(sg, t int) {
-		buck := ws.tabs[t]
 		a, b := segs[sg], segs[sg+1]
-		ng := tileGroups(lp)
-		for g, end := a/4, (b+3)/4; g < end; g += ng {
-			nt := min(ng, end-g)
-			clear(buck[:nt*256*lp])
-			scatterTile(buck, ws.wpp, raw, offs, g, nt, lp)
-			for u := 0; u < nt; u++ {
-				bu := buck[u*256*lp : (u+1)*256*lp]
-				for s := 0; s < 4 && 4*(g+u)+s < n; s++ {
-					i := 4*(g+u) + s
-					marginal(ws.y[i*lp:i*lp+lp], bu, &marginalIdx[s][0], &marginalIdx[s][1], lp)
-				}
-			}
-		}
+		op.secondTiles(ws, raw, offs, sg, t)
 		// Missing calls have z = 0: give back the -mu_j W''_j of btot.
 		for q := range sels {
 			idx := ws.miss[q]

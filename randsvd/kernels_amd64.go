@@ -236,3 +236,99 @@ func addRows(dst, src, v []float64, rows, lp int) {
 	}
 	addRowsAVX2(&dst[0], &src[0], &v[0], rows, lp)
 }
+
+// The float32 kernels of the fast passes (see fast.go).
+
+//go:noescape
+func gather32V1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V2(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V3(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V4(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V2(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V3(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V4(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func marginal32AVX2(y *float64, buck *float32, l1, l2 *uint8, lp int)
+
+//go:noescape
+func addRows32AVX2(dst, src, v *float32, rows, lp int)
+
+var (
+	gather32Kernels  = [5]func(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int){nil, gather32V1, gather32V2, gather32V3, gather32V4}
+	scatter32Kernels = [5]func(buck, src *float32, raw *byte, offs *int32, n, ng, lp int){nil, scatter32V1, scatter32V2, scatter32V3, scatter32V4}
+)
+
+// gather32Tile: for each marker q, the float32 sum over t = 0..ng-1 (in
+// that order, from zero) of tab_t[byte g+t of its row] is widened and
+// added to the float64 row dst[q]. lp is a multiple of 8.
+func gather32Tile(dst []float64, tab []float32, raw []byte, offs []int32, g, ng, lp int) {
+	if !useAVX2 || len(offs) == 0 || ng == 0 || lp == 0 {
+		gather32TileGeneric(dst, tab, raw, offs, g, ng, lp)
+		return
+	}
+	check32(len(dst), len(tab), len(raw), offs, g, ng, lp)
+	for c0 := 0; c0 < lp; c0 += 32 {
+		nv := min(4, (lp-c0)/8)
+		gather32Kernels[nv](&dst[c0], &tab[c0], &raw[g], &offs[0], len(offs), ng, lp)
+	}
+}
+
+// scatter32Tile: for each marker q in order, buck_t[byte g+t of its row]
+// += src[q] for t = 0..ng-1, in float32.
+func scatter32Tile(buck, src []float32, raw []byte, offs []int32, g, ng, lp int) {
+	if !useAVX2 || len(offs) == 0 || ng == 0 || lp == 0 {
+		scatter32TileGeneric(buck, src, raw, offs, g, ng, lp)
+		return
+	}
+	check32(len(src), len(buck), len(raw), offs, g, ng, lp)
+	for c0 := 0; c0 < lp; c0 += 32 {
+		nv := min(4, (lp-c0)/8)
+		scatter32Kernels[nv](&buck[c0], &src[c0], &raw[g], &offs[0], len(offs), ng, lp)
+	}
+}
+
+func check32(rowsLen, tabLen, rawLen int, offs []int32, g, ng, lp int) {
+	if lp%8 != 0 {
+		panic("randsvd: float32 kernel width not a multiple of 8")
+	}
+	checkKernel(rowsLen, tabLen, rawLen, offs, g, ng, lp)
+}
+
+func marginal32(y []float64, buck []float32, l1, l2 *[64]uint8, lp int) {
+	if !useAVX2 || lp == 0 {
+		marginal32Generic(y, buck, l1, l2, lp)
+		return
+	}
+	if len(y) < lp || len(buck) < 256*lp || lp%8 != 0 {
+		panic("randsvd: marginal32 shape out of range")
+	}
+	marginal32AVX2(&y[0], &buck[0], &l1[0], &l2[0], lp)
+}
+
+// addRows32 sets dst[r] = src[r] + v for r < rows (float32).
+func addRows32(dst, src, v []float32, rows, lp int) {
+	if !useAVX2 || rows == 0 || lp == 0 {
+		addRows32Generic(dst, src, v, rows, lp)
+		return
+	}
+	if lp%8 != 0 || len(dst) < rows*lp || len(src) < rows*lp || len(v) < lp {
+		panic("randsvd: addRows32 shape out of range")
+	}
+	addRows32AVX2(&dst[0], &src[0], &v[0], rows, lp)
+}

@@ -79,3 +79,89 @@ acol:
 adone:
 	VZEROUPPER
 	RET
+
+// func marginal32AVX2(y *float64, buck *float32, l1, l2 *uint8, lp int)
+// The float32 twin of marginalAVX2: r = (E1 + O1) + 2*(E2 + O2) summed in
+// float32 over the float32 bucket rows (stride lp), then y[k] += float64(r[k]).
+// lp is a multiple of 8.
+TEXT ·marginal32AVX2(SB), NOSPLIT, $0-40
+	MOVQ y+0(FP), DI
+	MOVQ buck+8(FP), SI
+	MOVQ l1+16(FP), R8
+	MOVQ l2+24(FP), R9
+	MOVQ lp+32(FP), R11
+	SHLQ $2, R11
+	XORQ DX, DX
+
+ncol:
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	LEAQ (SI)(DX*1), R10
+	XORQ CX, CX
+
+nrow:
+	MOVBQZX (R8)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), Y0, Y0
+	MOVBQZX 1(R8)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), Y1, Y1
+	MOVBQZX (R9)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), Y2, Y2
+	MOVBQZX 1(R9)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), Y3, Y3
+	ADDQ $2, CX
+	CMPQ CX, $64
+	JLT nrow
+	VADDPS Y1, Y0, Y0
+	VADDPS Y3, Y2, Y2
+	VADDPS Y2, Y2, Y2
+	VADDPS Y2, Y0, Y0
+	LEAQ (DI)(DX*2), BX
+	VCVTPS2PD X0, Y4
+	VADDPD (BX), Y4, Y4
+	VMOVUPD Y4, (BX)
+	VEXTRACTF128 $1, Y0, X5
+	VCVTPS2PD X5, Y5
+	VADDPD 32(BX), Y5, Y5
+	VMOVUPD Y5, 32(BX)
+	ADDQ $32, DX
+	CMPQ DX, R11
+	JLT ncol
+	VZEROUPPER
+	RET
+
+// func addRows32AVX2(dst, src, v *float32, rows, lp int)
+// dst[r][k] = src[r][k] + v[k] for r < rows, k < lp (lp a multiple of 8).
+TEXT ·addRows32AVX2(SB), NOSPLIT, $0-40
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ v+16(FP), R8
+	MOVQ rows+24(FP), CX
+	MOVQ lp+32(FP), R11
+	SHLQ $2, R11
+	TESTQ CX, CX
+	JLE bdone
+
+brow:
+	XORQ DX, DX
+
+bcol:
+	VMOVUPS (SI)(DX*1), Y0
+	VADDPS (R8)(DX*1), Y0, Y0
+	VMOVUPS Y0, (DI)(DX*1)
+	ADDQ $32, DX
+	CMPQ DX, R11
+	JLT bcol
+	ADDQ R11, DI
+	ADDQ R11, SI
+	DECQ CX
+	JNZ brow
+
+bdone:
+	VZEROUPPER
+	RET

@@ -24,7 +24,7 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		for q := range offs {
 			offs[q] = int32(r.IntN(nq+5) * rowBytes)
 		}
-		ng := 1 + r.IntN(12)
+		ng := 1 + r.IntN(min(12, rowBytes))
 		g := r.IntN(rowBytes - ng + 1)
 		tab := make([]float64, ng*256*lp)
 		for i := range tab {
@@ -57,6 +57,39 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			kern{"sumRows", func(a []float64) { sumRows(a, src, idx, lp) }, func(a []float64) { sumRowsGeneric(a, src, idx, lp) }, lp},
 			kern{"addRow", func(a []float64) { addRow(a, one, idx, lp) }, func(a []float64) { addRowGeneric(a, one, idx, lp) }, nq * lp},
 		)
+		// The float32 kernels of fast passes, on rows of lp32 (whole
+		// vectors of 8).
+		lp32 := 8 * (1 + r.IntN(10))
+		tab32 := make([]float32, ng*256*lp32)
+		for i := range tab32 {
+			tab32[i] = float32(r.NormFloat64())
+		}
+		src32 := make([]float32, nq*lp32)
+		for i := range src32 {
+			src32[i] = float32(r.NormFloat64())
+		}
+		ks = append(ks,
+			kern{"gather32Tile", func(a []float64) { gather32Tile(a, tab32, raw, offs, g, ng, lp32) }, func(a []float64) { gather32TileGeneric(a, tab32, raw, offs, g, ng, lp32) }, nq * lp32},
+			kern{"marginal32", func(a []float64) { marginal32(a, tab32, &marginalIdx[trial%4][0], &marginalIdx[trial%4][1], lp32) }, func(a []float64) {
+				marginal32Generic(a, tab32, &marginalIdx[trial%4][0], &marginalIdx[trial%4][1], lp32)
+			}, lp32},
+		)
+		// scatter32Tile and addRows32 write float32 rows.
+		b1 := make([]float32, ng*256*lp32)
+		for i := range b1 {
+			b1[i] = float32(r.NormFloat64())
+		}
+		b2 := append([]float32(nil), b1...)
+		scatter32Tile(b1, src32, raw, offs, g, ng, lp32)
+		scatter32TileGeneric(b2, src32, raw, offs, g, ng, lp32)
+		rows := min(nq, 64)
+		addRows32(b1, src32, tab32[lp32:], rows, lp32)
+		addRows32Generic(b2, src32, tab32[lp32:], rows, lp32)
+		for i := range b1 {
+			if b1[i] != b2[i] {
+				t.Fatalf("scatter32Tile/addRows32 trial %d (lp %d, n %d): element %d = %v, generic %v", trial, lp32, nq, i, b1[i], b2[i])
+			}
+		}
 		for _, k := range ks {
 			a := make([]float64, k.outLen)
 			for i := range a {

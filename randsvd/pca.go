@@ -36,6 +36,9 @@ type PCAOptions struct {
 	// samples and approx beyond.
 	TW         string
 	TWExactMax int // default 4000
+	// ExactPasses disables fast passes (Solve, FastApplier): every pass
+	// float64, about 1.5x the time.
+	ExactPasses bool
 }
 
 // PCAResult is the outcome of RunPCA.
@@ -49,6 +52,7 @@ type PCAResult struct {
 	TraceSqEst  float64    // Hutchinson estimate of trace(K^2)
 	Markers     int        // M: markers in the operator
 	Passes      int
+	FastPasses  int // passes with float32 tables (before the exact ones)
 	StopReason  string
 	BlockSize   int
 	History     [][]float64
@@ -107,7 +111,12 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	target := int64(blockTarget(n, int(lp), int(rb)))
 	blockM := max(target, int64(st.ChunkMarkers()))
 	nseg := int64(len(segments(n)) - 1)
-	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*int64(tileGroups(int(lp)))*256*lp*8
+	// Fast passes (fast.go) use float32 tables of rows padded to 8 and
+	// float32 copies of X and of the block's W''; the larger of the two
+	// kinds of table counts.
+	lp32 := int64((l + 7) &^ 7)
+	tabs := max(int64(tileGroups(int(lp)))*256*lp*8, int64(tileGroups32(int(lp32)))*256*lp32*4)
+	p.KernelBytes = nseg*blockM*max(lp, lp32)*8 + int64(max(1, threads))*tabs + int64(n)*lp32*4 + blockM*lp32*4
 	if st.Codec() == matrixio.CodecGeno2 && int64(st.ChunkMarkers()) < target {
 		p.KernelBytes += target * rb
 	}
@@ -180,7 +189,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 	}
 	res, err := Solve(ctx, op, SolveOptions{K: opt.K, Oversample: opt.Oversample, Tol: opt.Tol,
 		MaxPasses: opt.MaxPasses, Seed: opt.Seed, BulkEdge: edge, VarTol: opt.VarTol, Checkpoint: opt.Checkpoint, Resume: opt.Resume,
-		Pass: func(p int, rel float64) {
+		Exact: opt.ExactPasses, Pass: func(p int, rel float64) {
 			pass = p
 			if opt.Pass != nil {
 				opt.Pass(p, rel)
@@ -191,7 +200,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 	}
 	out := &PCAResult{Samples: op.KeptSamples(), Eigenvalues: res.Eigenvalues, Residuals: res.Residuals,
 		Converged: res.Converged, Scores: res.Vectors, Trace: op.Trace(), TraceSqEst: res.TraceSqEst,
-		Markers: op.Markers(), Passes: res.Passes, StopReason: res.StopReason, BlockSize: res.BlockSize,
+		Markers: op.Markers(), Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, BlockSize: res.BlockSize,
 		History: res.History, Dropped: op.Dropped(), Plan: plan}
 	out.MPEdge = MPUpperEdgeScaled(out.Trace, op.Dim(), op.Markers())
 	if err := tracyWidom(ctx, op, opt, out); err != nil {

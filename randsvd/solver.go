@@ -19,6 +19,23 @@ type Applier interface {
 	Apply(ctx context.Context, x, y []float64, l int) error
 }
 
+// FastApplier is an Applier with a second, faster and less precise
+// application: ApplyFast computes K X to about 1e-7 relative (Operator's
+// float32 tables, fast.go). Solve iterates with it and finishes with exact
+// passes, so its results are those of Apply's precision.
+type FastApplier interface {
+	Applier
+	ApplyFast(ctx context.Context, x, y []float64, l int) error
+}
+
+// fastFloor bounds the relative error of a fast application of K to a unit
+// vector, as a fraction of the largest eigenvalue: ten float32 unit
+// roundoffs (TestOperatorMatchesDense measures about 2e-7). While passes
+// are fast, pair j counts as converged at a relative residual of
+// max(Tol, fastFloor * theta_1 / theta_j); the exact passes that follow
+// hold every pair to Tol.
+const fastFloor = 10 * 0x1p-24
+
 // SolveOptions configure Solve.
 type SolveOptions struct {
 	K          int     // eigenpairs wanted
@@ -44,6 +61,8 @@ type SolveOptions struct {
 	Checkpoint func(*State) error
 	// Resume, when set, continues from a checkpointed state.
 	Resume *State
+	// Exact disables fast passes even when the operator has them.
+	Exact bool
 }
 
 // Result holds the top-K eigenpairs of K.
@@ -53,6 +72,7 @@ type Result struct {
 	Residuals   []float64   // ||K u - lambda u||_2 per pair
 	Converged   []bool      // residual <= Tol * lambda
 	Passes      int         // applications of the operator
+	FastPasses  int         // of which fast (FastApplier), all before the exact ones
 	History     [][]float64 // relative residuals of the wanted pairs after each RR step
 	TraceSqEst  float64     // Hutchinson estimate of trace(K^2) from the first pass
 	BlockSize   int         // l = K + oversampling
@@ -73,6 +93,10 @@ type State struct {
 	// values) of the pass before Pass, NaN when there is none; the
 	// bulk-variance stopping test compares against it.
 	PrevCaptured float64
+	// Fast says AU came from fast passes (FastApplier) and the next pass
+	// is fast too; FastPasses counts them.
+	Fast       bool
+	FastPasses int
 }
 
 // Solve computes the top-K eigenpairs of a by a restarted block Krylov
@@ -110,6 +134,14 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	if opt.MaxPasses < 2 {
 		opt.MaxPasses = 2
 	}
+	fa, fast := a.(FastApplier)
+	fast = fast && !opt.Exact
+	apply := func(fast bool) func(context.Context, []float64, []float64, int) error {
+		if fast {
+			return fa.ApplyFast
+		}
+		return a.Apply
+	}
 	var st *State
 	if opt.Resume != nil {
 		st = opt.Resume
@@ -124,7 +156,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			omega[i] = rng.NormFloat64()
 		}
 		y := make([]float64, n*l)
-		if err := a.Apply(ctx, omega, y, l); err != nil {
+		if err := apply(fast)(ctx, omega, y, l); err != nil {
 			return nil, err
 		}
 		var ss float64
@@ -138,7 +170,11 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			return nil, fmt.Errorf("solve: start block: %w", err)
 		}
 		u, au, theta := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l)
-		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l), PrevCaptured: math.NaN()}
+		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l), PrevCaptured: math.NaN(),
+			Fast: fast}
+		if fast {
+			st.FastPasses = 1
+		}
 		st.History = append(st.History, relResiduals(u, au, theta, opt.K))
 		if opt.Pass != nil {
 			opt.Pass(1, maxOf(st.History[0]))
@@ -156,27 +192,70 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	prevVar := st.PrevCaptured
 	for {
 		rel := relResiduals(u, au, theta, opt.K)
-		if allBelow(rel, opt.Tol) {
-			reason = "converged"
-			break
+		// The residual each pair must reach: Tol, or while passes are fast
+		// the float32 floor relative to its Ritz value (see fastFloor).
+		conv := func(j int) bool {
+			t := opt.Tol
+			if st.Fast && theta[j] > 0 {
+				t = math.Max(t, fastFloor*theta[0]/theta[j])
+			}
+			return rel[j] <= t
+		}
+		stop := ""
+		allConv := true
+		for j := 0; j < opt.K; j++ {
+			allConv = allConv && conv(j)
 		}
 		captured := sum(theta[:opt.K])
-		if opt.BulkEdge > 0 && !math.IsNaN(prevVar) && math.Abs(captured-prevVar) <= opt.VarTol*captured {
+		switch {
+		case allConv:
+			stop = "converged"
+		case opt.BulkEdge > 0 && !math.IsNaN(prevVar) && math.Abs(captured-prevVar) <= opt.VarTol*captured:
 			ok := true
 			for j := 0; j < opt.K; j++ {
-				if theta[j] > opt.BulkEdge && !(rel[j] <= opt.Tol) {
+				if theta[j] > opt.BulkEdge && !conv(j) {
 					ok = false
 				}
 			}
 			if ok {
-				reason = "bulk-variance-stable"
-				break
+				stop = "bulk-variance-stable"
 			}
 		}
-		prevVar = captured
-		if st.Pass >= opt.MaxPasses {
+		// The exact pass that ends a fast phase is the last of MaxPasses.
+		if stop == "" && (st.Pass >= opt.MaxPasses || st.Fast && st.Pass >= opt.MaxPasses-1) {
+			stop = "max-passes"
+		}
+		if stop != "" && st.Fast {
+			// Refinement: one exact pass on the Ritz vectors and
+			// Rayleigh-Ritz on them gives float64 Ritz values, vectors
+			// and residuals; the stopping tests then run again, strictly.
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+			y := make([]float64, n*l)
+			if err := a.Apply(ctx, u.RawMatrix().Data, y, l); err != nil {
+				return nil, err
+			}
+			u, au, theta = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{mat.NewDense(n, l, y)}, l)
+			st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
+				PrevCaptured: captured, FastPasses: st.FastPasses}
+			prevVar = captured
+			if opt.Pass != nil {
+				opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
+			}
+			if opt.Checkpoint != nil {
+				if err := opt.Checkpoint(st); err != nil {
+					return nil, err
+				}
+			}
+			continue
+		}
+		if stop != "" {
+			reason = stop
 			break
 		}
+		prevVar = captured
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
@@ -193,14 +272,17 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			return nil, fmt.Errorf("solve: pass %d: %w", st.Pass+1, err)
 		}
 		ar := make([]float64, n*l)
-		if err := a.Apply(ctx, r.RawMatrix().Data, ar, l); err != nil {
+		if err := apply(st.Fast)(ctx, r.RawMatrix().Data, ar, l); err != nil {
 			return nil, err
 		}
 		arm := mat.NewDense(n, l, ar)
 		u, au, theta = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l)
 		st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
-			PrevCaptured: captured}
+			PrevCaptured: captured, Fast: st.Fast, FastPasses: st.FastPasses}
+		if st.Fast {
+			st.FastPasses++
+		}
 		if opt.Pass != nil {
 			opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
 		}
@@ -226,7 +308,7 @@ func sum(v []float64) float64 {
 func finish(u, au *mat.Dense, theta []float64, st *State, opt SolveOptions) *Result {
 	n, k := u.RawMatrix().Rows, opt.K
 	res := &Result{Eigenvalues: make([]float64, k), Vectors: mat.NewDense(n, k, nil),
-		Residuals: make([]float64, k), Converged: make([]bool, k), Passes: st.Pass,
+		Residuals: make([]float64, k), Converged: make([]bool, k), Passes: st.Pass, FastPasses: st.FastPasses,
 		History: st.History, TraceSqEst: st.TraceSqEst, BlockSize: st.L}
 	for j := 0; j < k; j++ {
 		res.Eigenvalues[j] = theta[j]

@@ -56,3 +56,54 @@ func BenchmarkTiles(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkTiles32 is BenchmarkTiles for the float32 kernels of fast
+// passes (rows of 24 = 20 padded to whole vectors of 8).
+func BenchmarkTiles32(b *testing.B) {
+	const nb, rb, lp = 2048, 1250, 24
+	r := rand.New(rand.NewPCG(3, 3))
+	raw := make([]byte, nb*rb)
+	for i := range raw {
+		var v byte
+		for s := 0; s < 4; s++ {
+			c := byte(0)
+			if r.Float64() < 0.3 {
+				c++
+			}
+			if r.Float64() < 0.3 {
+				c++
+			}
+			v |= c << (2 * s)
+		}
+		raw[i] = v
+	}
+	offs := make([]int32, nb)
+	for q := range offs {
+		offs[q] = int32(q * rb)
+	}
+	rows := make([]float64, nb*lp)
+	rows32 := make([]float32, nb*lp)
+	for _, ng := range []int{4, 8, 16} {
+		tab := make([]float32, ng*256*lp)
+		for i := range tab {
+			tab[i] = float32(r.NormFloat64())
+		}
+		for _, k := range []struct {
+			name string
+			fn   func(g int)
+		}{
+			{"gather32", func(g int) { gather32Tile(rows, tab, raw, offs, g, ng, lp) }},
+			{"scatter32", func(g int) { scatter32Tile(tab, rows32, raw, offs, g, ng, lp) }},
+		} {
+			b.Run(fmt.Sprintf("%s/ng=%d", k.name, ng), func(b *testing.B) {
+				for i := 0; i < b.N; i++ {
+					for g := 0; g+ng <= rb; g += ng {
+						k.fn(g)
+					}
+				}
+				sec := b.Elapsed().Seconds() / float64(b.N)
+				b.ReportMetric(float64(nb)*float64(rb)*4/sec/1e9, "Ggeno/s")
+			})
+		}
+	}
+}

@@ -68,6 +68,16 @@ type clusterApplier struct {
 func (a *clusterApplier) Dim() int { return a.m.SamplesUsed }
 
 func (a *clusterApplier) Apply(ctx context.Context, x, y []float64, l int) error {
+	return a.apply(ctx, x, y, l, false)
+}
+
+// ApplyFast is a pass whose steps use the operator's fast pass (float32
+// tables): the block file says so, and the partials' digests depend on it.
+func (a *clusterApplier) ApplyFast(ctx context.Context, x, y []float64, l int) error {
+	return a.apply(ctx, x, y, l, true)
+}
+
+func (a *clusterApplier) apply(ctx context.Context, x, y []float64, l int, fast bool) error {
 	m := a.m
 	n, S := m.SamplesUsed, len(m.Shards)
 	if l < 1 || l > maxBlockVector || len(x) != n*l || len(y) != n*l {
@@ -82,11 +92,11 @@ func (a *clusterApplier) Apply(ctx context.Context, x, y []float64, l int) error
 	// by an interrupted driver is the same block: keep it (and the partials
 	// made from it) when its digest agrees.
 	var digest string
-	if _, _, have, err := readBlock(a.d.xPath(p), p, n); err == nil && have == blockDigest(p, n, l, x) {
+	if _, _, _, have, err := readBlock(a.d.xPath(p), p, n); err == nil && have == blockDigest(p, n, l, x, fast) {
 		digest = have
 	} else {
 		var err error
-		if digest, err = writeBlock(a.d.xPath(p), p, n, l, x); err != nil {
+		if digest, err = writeBlock(a.d.xPath(p), p, n, l, x, fast); err != nil {
 			return fmt.Errorf("cluster: %w", err)
 		}
 	}
@@ -313,7 +323,7 @@ func runDriver(ctx context.Context, e *env, opt *driverOptions) (*clusterOutcome
 		}
 	}
 	sopt := randsvd.SolveOptions{K: m.PCA.K, Oversample: m.PCA.Oversample, Tol: m.PCA.Tol, MaxPasses: m.PCA.MaxPasses,
-		Seed: m.PCA.Seed, VarTol: m.PCA.VarTol}
+		Seed: m.PCA.Seed, VarTol: m.PCA.VarTol, Exact: m.PCA.ExactPasses}
 	// As randsvd.RunPCA: the bulk stop needs trace(K), exact from the counts
 	// for hard calls and unknown before the first pass for float stores.
 	if tr := op.Trace(); !math.IsNaN(tr) {

@@ -136,6 +136,7 @@ type clusterPCA struct {
 	MaxAutoK     int        `json:"max_auto_k"`
 	OutlierSD    float64    `json:"outlier_sd"`
 	OutlierIters int        `json:"outlier_iters"`
+	ExactPasses  bool       `json:"exact_passes,omitempty"`
 }
 
 func clusterPCAFrom(o *pcaOptions) clusterPCA {
@@ -143,7 +144,7 @@ func clusterPCAFrom(o *pcaOptions) clusterPCA {
 		MaxPasses: o.maxPasses, Memory: int64(o.memory), Scaling: o.scaling, TwoIDs: o.twoIDs,
 		IDHeaders: o.idHeaders, PCPrefix: o.pcPrefix, Labels: o.labels, QC: o.qc, QCPrefix: o.qcPrefix,
 		NoLoadings: o.noLoadings, TW: o.tw, TWAlpha: o.twAlpha, AutoK: o.autoK, MaxAutoK: o.maxAutoK,
-		OutlierSD: o.outlierSD, OutlierIters: o.outlierIters}
+		OutlierSD: o.outlierSD, OutlierIters: o.outlierIters, ExactPasses: o.exact}
 }
 
 // options rebuilds the pca options for the outputs, with prefix and the
@@ -153,7 +154,7 @@ func (c clusterPCA) options(prefix string, threads int) *pcaOptions {
 		maxPasses: c.MaxPasses, threads: threads, memory: byteSize(c.Memory), scaling: c.Scaling,
 		twoIDs: c.TwoIDs, idHeaders: c.IDHeaders, pcPrefix: c.PCPrefix, labels: c.Labels, qc: c.QC,
 		qcPrefix: c.QCPrefix, noLoadings: c.NoLoadings, tw: c.TW, twAlpha: c.TWAlpha, autoK: c.AutoK,
-		maxAutoK: c.MaxAutoK, outlierSD: c.OutlierSD, outlierIters: c.OutlierIters}
+		maxAutoK: c.MaxAutoK, outlierSD: c.OutlierSD, outlierIters: c.OutlierIters, exact: c.ExactPasses}
 }
 
 // runDir names the files of a run directory.
@@ -416,12 +417,12 @@ const xMagic = "CLNLXBLK"
 
 // writeBlock writes x for pass p atomically and returns the SHA-256 of
 // its header and values (the digest partials refer to).
-func writeBlock(path string, p, n, l int, x []float64) (string, error) {
+func writeBlock(path string, p, n, l int, x []float64, fast bool) (string, error) {
 	var sum string
 	err := matrixio.WriteFileAtomic(path, func(w io.Writer) error {
 		c := newCRCWriter(w)
 		c.bytes([]byte(xMagic))
-		for _, v := range []uint64{1, uint64(p), uint64(n), uint64(l)} {
+		for _, v := range []uint64{blockKind(fast), uint64(p), uint64(n), uint64(l)} {
 			c.u64(v)
 		}
 		c.f64s(x)
@@ -435,10 +436,10 @@ func writeBlock(path string, p, n, l int, x []float64) (string, error) {
 }
 
 // blockDigest computes the digest writeBlock would return for x.
-func blockDigest(p, n, l int, x []float64) string {
+func blockDigest(p, n, l int, x []float64, fast bool) string {
 	c := newCRCWriter(io.Discard)
 	c.bytes([]byte(xMagic))
-	for _, v := range []uint64{1, uint64(p), uint64(n), uint64(l)} {
+	for _, v := range []uint64{blockKind(fast), uint64(p), uint64(n), uint64(l)} {
 		c.u64(v)
 	}
 	c.f64s(x)
@@ -446,24 +447,35 @@ func blockDigest(p, n, l int, x []float64) string {
 	return hex.EncodeToString(c.sha.Sum(nil))
 }
 
+// blockKind is the first field of a block file: 1 for an exact pass, 2
+// for a fast one (float32 tables, randsvd.Operator.ApplyFast).
+func blockKind(fast bool) uint64 {
+	if fast {
+		return 2
+	}
+	return 1
+}
+
 // readBlock loads the X of pass p, checking that it has n rows and at
-// most maxBlockVector columns, and returns it with its width and digest.
-func readBlock(path string, p, n int) ([]float64, int, string, error) {
+// most maxBlockVector columns, and returns it with its width, whether the
+// pass is fast, and its digest.
+func readBlock(path string, p, n int) ([]float64, int, bool, string, error) {
 	r, err := readBinFile(path, xMagic, 32)
 	if err != nil {
-		return nil, 0, "", err
+		return nil, 0, false, "", err
 	}
-	ver, pp, nn, ll := r.u64(), r.u64(), r.u64(), r.u64()
-	if ver != 1 || pp != uint64(p) || nn != uint64(n) || ll < 1 || ll > maxBlockVector {
-		return nil, 0, "", fmt.Errorf("%s: block of pass %d, %d x %d; want pass %d with %d rows", path, pp, nn, ll, p, n)
+	kind, pp, nn, ll := r.u64(), r.u64(), r.u64(), r.u64()
+	if kind != 1 && kind != 2 || pp != uint64(p) || nn != uint64(n) || ll < 1 || ll > maxBlockVector {
+		return nil, 0, false, "", fmt.Errorf("%s: block of kind %d, pass %d, %d x %d; want pass %d with %d rows", path, kind, pp, nn, ll, p, n)
 	}
 	l := int(ll)
 	if uint64(len(r.b)) != uint64(n)*ll*8 {
-		return nil, 0, "", fmt.Errorf("%s: sizes do not match the file", path)
+		return nil, 0, false, "", fmt.Errorf("%s: sizes do not match the file", path)
 	}
 	x := make([]float64, n*l)
 	r.f64s(x)
-	return x, l, blockDigest(p, n, l, x), nil
+	fast := kind == 2
+	return x, l, fast, blockDigest(p, n, l, x, fast), nil
 }
 
 // Partial file: magic, u64 version, pass, shard, shards, rows n, columns

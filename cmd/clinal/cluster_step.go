@@ -62,7 +62,7 @@ func (w *shardWorker) compute(ctx context.Context, p, s int) (bool, error) {
 		return false, usage("cluster step: shard %d: the run has shards 0..%d", s, len(m.Shards)-1)
 	}
 	n := m.SamplesUsed
-	x, l, digest, err := readBlock(w.dir.xPath(p), p, n)
+	x, l, fast, digest, err := readBlock(w.dir.xPath(p), p, n)
 	if err != nil {
 		return false, fmt.Errorf("cluster step pass %d shard %d: %w", p, s, err)
 	}
@@ -106,7 +106,7 @@ func (w *shardWorker) compute(ctx context.Context, p, s int) (bool, error) {
 	}
 	if len(op.KeptMarkers()) == 0 {
 		clear(y) // a shard whose markers were all filtered adds nothing
-	} else if err := op.Apply(ctx, x, y, l); err != nil {
+	} else if err := applyPass(ctx, op, fast, x, y, l); err != nil {
 		return false, fmt.Errorf("cluster step shard %d: %w", s, err)
 	}
 	tr := op.Trace()
@@ -121,4 +121,12 @@ func (w *shardWorker) compute(ctx context.Context, p, s int) (bool, error) {
 		return false, fmt.Errorf("cluster step shard %d: %w", s, err)
 	}
 	return true, nil
+}
+
+// applyPass is one shard's pass, exact or fast as the block file says.
+func applyPass(ctx context.Context, op *randsvd.Operator, fast bool, x, y []float64, l int) error {
+	if fast {
+		return op.ApplyFast(ctx, x, y, l)
+	}
+	return op.Apply(ctx, x, y, l)
 }

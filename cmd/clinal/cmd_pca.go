@@ -53,6 +53,7 @@ type pcaOptions struct {
 	outlierIters int
 	outlierPCs   int
 	flagColumn   bool
+	exact        bool
 }
 
 func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
@@ -85,6 +86,7 @@ func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
 	fs.StringVar(&o.labels, "labels", "", "TSV sample_id -> group, for the report's plots")
 	fs.StringVar(&o.qcPrefix, "qc", "", "reuse the kept lists of a finished clinal qc run (PREFIX)")
 	fs.BoolVar(&o.noLoadings, "no-loadings", false, "skip the loadings file (saves half a pass)")
+	fs.BoolVar(&o.exact, "exact-passes", false, "every pass in float64 (slower); by default the iterations use float32 tables and exact passes finish them, with the same float64 results")
 	fs.BoolVar(&o.noResume, "no-resume", false, "ignore a checkpoint left by an interrupted run with the same inputs")
 	fs.Float64Var(&o.outlierSD, "outlier-sd", randsvd.DefaultOutlierSD, "remove samples beyond this many SDs on any of the top --outlier-pcs PCs and recompute (0: off)")
 	fs.IntVar(&o.outlierIters, "outlier-rounds", randsvd.DefaultOutlierRounds, "most rounds of outlier removal")
@@ -230,7 +232,7 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 	var bar *progressbar.ProgressBar
 	popt := randsvd.PCAOptions{K: o.k, Oversample: o.oversample, Tol: o.tol, VarTol: o.varTol, MaxPasses: o.maxPasses,
 		Seed: o.seed, Threads: o.threads, Memory: int64(o.memory), Scaling: randsvd.Scaling(o.scaling),
-		SampleKept: sel.SampleKept, MarkerKept: sel.MarkerKept, Counts: sel.Counts, TW: o.tw}
+		SampleKept: sel.SampleKept, MarkerKept: sel.MarkerKept, Counts: sel.Counts, TW: o.tw, ExactPasses: o.exact}
 	switch popt.Scaling {
 	case randsvd.ScalePatterson, randsvd.ScaleCenter, randsvd.ScaleZ:
 	default:
@@ -303,7 +305,7 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 // iteration (not tol or max-passes, which only decide when to stop).
 func checkpointKey(st *matrixio.Store, sel *qc.Selection, o *pcaOptions) string {
 	h := sha256.New()
-	fmt.Fprintf(h, "%s|k=%d|over=%d|seed=%d|scaling=%s|", st.Fingerprint(), o.k, o.oversample, o.seed, o.scaling)
+	fmt.Fprintf(h, "%s|k=%d|over=%d|seed=%d|scaling=%s|exact=%v|", st.Fingerprint(), o.k, o.oversample, o.seed, o.scaling, o.exact)
 	for _, m := range [][]bool{sel.SampleKept, sel.MarkerKept} {
 		b := make([]byte, len(m))
 		for i, v := range m {
@@ -448,6 +450,7 @@ type pcaReportJSON struct {
 	MaxPasses     int                `json:"max_passes"`
 	Scaling       string             `json:"scaling"`
 	Passes        int                `json:"passes"`
+	FastPasses    int                `json:"fast_passes"`
 	StopReason    string             `json:"stop_reason"`
 	Trace         float64            `json:"trace"`
 	TraceSqEst    float64            `json:"trace_sq_estimate"`
@@ -544,7 +547,7 @@ func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel 
 			Samples: st.NumSamples(), Markers: st.NumMarkers(), Codec: string(st.Codec())},
 		SamplesUsed: len(res.Samples), MarkersUsed: res.Markers, K: o.k, BlockSize: res.BlockSize,
 		Seed: o.seed, Threads: o.threads, Tol: o.tol, MaxPasses: o.maxPasses, Scaling: o.scaling,
-		Passes: res.Passes, StopReason: res.StopReason, Trace: res.Trace, TraceSqEst: res.TraceSqEst,
+		Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, Trace: res.Trace, TraceSqEst: res.TraceSqEst,
 		MPEdge: res.MPEdge, Eigenvalues: res.Eigenvalues, Residuals: res.Residuals, Converged: res.Converged,
 		ResidualTrace: res.History, Memory: res.Plan, WallSeconds: wall.Seconds(), CPUSeconds: cpuSeconds(),
 		PeakRSS:    peakRSS(),

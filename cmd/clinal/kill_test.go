@@ -367,6 +367,11 @@ func kbTable(b []byte) error {
 func TestSignalStop(t *testing.T) {
 	k := kbSetup(t)
 	for _, cmd := range k.commands() {
+		if cmd.setup != nil {
+			// Cluster runs: their signal handling (scancel of a step or of
+			// the job, then resume) is tested in cluster_test.go.
+			continue
+		}
 		normal, _ := k.run(t, cmd.args(t.TempDir()))
 		for _, sig := range []syscall.Signal{syscall.SIGINT, syscall.SIGTERM} {
 			t.Run(cmd.name+"/"+sig.String(), func(t *testing.T) {
