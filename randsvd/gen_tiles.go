@@ -302,6 +302,39 @@ func main() {
 		p("\tVZEROUPPER")
 		p("\tRET")
 	}
+	for nv := 1; nv <= 8; nv++ {
+		// Dense rows for float (dosage) stores: dst += sum_c w[c*ws] *
+		// rows[c], one fused multiply-add per element and term, terms in
+		// order.
+		p("")
+		p("// func fmaRowsV%d(dst, rows, w *float64, count, wstride, lp int)", nv)
+		p("TEXT ·fmaRowsV%d(SB), NOSPLIT, $0-48", nv)
+		p("\tMOVQ dst+0(FP), DI")
+		p("\tMOVQ rows+8(FP), SI")
+		p("\tMOVQ w+16(FP), R8")
+		p("\tMOVQ count+24(FP), CX")
+		p("\tMOVQ wstride+32(FP), R9")
+		p("\tSHLQ $3, R9")
+		p("\tMOVQ lp+40(FP), R11")
+		p("\tSHLQ $3, R11")
+		for i := 0; i < nv; i++ {
+			p("\tVMOVUPD %d(DI), Y%d", 32*i, i)
+		}
+		p("f%dloop:", nv)
+		p("\tVBROADCASTSD (R8), Y15")
+		for i := 0; i < nv; i++ {
+			p("\tVFMADD231PD %d(SI), Y15, Y%d", 32*i, i)
+		}
+		p("\tADDQ R11, SI")
+		p("\tADDQ R9, R8")
+		p("\tDECQ CX")
+		p("\tJNZ f%dloop", nv)
+		for i := 0; i < nv; i++ {
+			p("\tVMOVUPD Y%d, %d(DI)", i, 32*i)
+		}
+		p("\tVZEROUPPER")
+		p("\tRET")
+	}
 	if err := os.WriteFile("tiles_amd64.s", b.Bytes(), 0o644); err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		os.Exit(1)

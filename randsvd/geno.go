@@ -3,7 +3,6 @@ package randsvd
 import (
 	"encoding/binary"
 	"math/bits"
-	"slices"
 )
 
 // The 2-bit kernels work on groups of four samples, one packed byte of a
@@ -168,9 +167,22 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 		op.firstTiles(ws, part, raw, offs, sg, t)
 	})
 	ws.scratch = grow(ws.scratch, op.threads*lp)
+	if cap(ws.missCut) < nb*(nseg+1) {
+		ws.missCut = make([]int32, nb*(nseg+1))
+	}
+	ws.missCut = ws.missCut[:nb*(nseg+1)]
 	op.forEach(nb, func(q, t int) {
 		s := sels[q]
 		ws.miss[q] = findMissing(raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
+		// Where the (ascending) missing list crosses each segment start.
+		cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
+		k := 0
+		for sg := 0; sg <= nseg; sg++ {
+			for k < len(ws.miss[q]) && int(ws.miss[q][k]) < segs[sg] {
+				k++
+			}
+			cut[sg] = int32(k)
+		}
 		w := ws.w[q*lp : q*lp+lp]
 		copy(w, ws.part[q*lp:q*lp+lp])
 		for sg := 1; sg < nseg; sg++ {
@@ -223,14 +235,12 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 	offs := ws.offs // set by genoFirst for these sels
 	segs := op.segs
 	op.forEach(len(segs)-1, func(sg, t int) {
-		a, b := segs[sg], segs[sg+1]
 		op.secondTiles(ws, raw, offs, sg, t)
 		// Missing calls have z = 0: give back the -mu_j W''_j of btot.
+		nseg := len(segs) - 1
 		for q := range sels {
-			idx := ws.miss[q]
-			lo, _ := slices.BinarySearch(idx, int32(a))
-			hi, _ := slices.BinarySearch(idx, int32(b))
-			addRow(ws.y, ws.mwpp[q*lp:q*lp+lp], idx[lo:hi], lp)
+			cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
+			addRow(ws.y, ws.mwpp[q*lp:q*lp+lp], ws.miss[q][cut[sg]:cut[sg+1]], lp)
 		}
 	})
 }

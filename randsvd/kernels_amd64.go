@@ -194,16 +194,14 @@ func scatterTile(buck, src []float64, raw []byte, offs []int32, g, ng, lp int) {
 
 // checkKernel guards the assembly against out-of-range arguments (a
 // programmer error): the per-marker rows, the ng 256-row tables and every
-// byte the offsets address must lie inside their slices.
+// byte the offsets address must lie inside their slices. Offsets are
+// ascending (rowOffsets builds them so), so the first and last bound them.
 func checkKernel(rowsLen, tabLen, rawLen int, offs []int32, g, ng, lp int) {
 	if lp%4 != 0 || rowsLen < len(offs)*lp || tabLen < ng*256*lp {
 		panic("randsvd: kernel shape out of range")
 	}
-	lo, hi := offs[0], offs[0]
-	for _, o := range offs {
-		lo, hi = min(lo, o), max(hi, o)
-	}
-	if int(lo)+g < 0 || int(hi)+g+ng > rawLen {
+	lo, hi := offs[0], offs[len(offs)-1]
+	if lo > hi || int(lo)+g < 0 || int(hi)+g+ng > rawLen {
 		panic("randsvd: kernel offsets out of range")
 	}
 }
@@ -331,4 +329,52 @@ func addRows32(dst, src, v []float32, rows, lp int) {
 		panic("randsvd: addRows32 shape out of range")
 	}
 	addRows32AVX2(&dst[0], &src[0], &v[0], rows, lp)
+}
+
+// The dense float64 kernels of float (dosage) stores (dense.go).
+
+//go:noescape
+func fmaRowsV1(dst, rows, w *float64, count, wstride, lp int)
+
+//go:noescape
+func fmaRowsV2(dst, rows, w *float64, count, wstride, lp int)
+
+//go:noescape
+func fmaRowsV3(dst, rows, w *float64, count, wstride, lp int)
+
+//go:noescape
+func fmaRowsV4(dst, rows, w *float64, count, wstride, lp int)
+
+//go:noescape
+func fmaRowsV5(dst, rows, w *float64, count, wstride, lp int)
+
+//go:noescape
+func fmaRowsV6(dst, rows, w *float64, count, wstride, lp int)
+
+//go:noescape
+func fmaRowsV7(dst, rows, w *float64, count, wstride, lp int)
+
+//go:noescape
+func fmaRowsV8(dst, rows, w *float64, count, wstride, lp int)
+
+var fmaRowsKernels = [9]func(dst, rows, w *float64, count, wstride, lp int){nil, fmaRowsV1, fmaRowsV2, fmaRowsV3, fmaRowsV4, fmaRowsV5, fmaRowsV6, fmaRowsV7, fmaRowsV8}
+
+// useFMA selects the fused multiply-add kernel (AVX2 machines have FMA in
+// practice, but the two are separate CPU features).
+var useFMA = cpu.X86.HasAVX2 && cpu.X86.HasFMA
+
+// fmaRows sets dst[:lp] = fma(w[c*wstride], rows[c], dst) for c = 0..count-1
+// in order, rows of stride lp.
+func fmaRows(dst, rows, w []float64, count, wstride, lp int) {
+	if !useFMA || count == 0 || lp == 0 {
+		fmaRowsGeneric(dst, rows, w, count, wstride, lp)
+		return
+	}
+	if lp%4 != 0 || len(dst) < lp || len(rows) < count*lp || len(w) <= (count-1)*wstride {
+		panic("randsvd: fmaRows shape out of range")
+	}
+	for c0 := 0; c0 < lp; c0 += 32 {
+		nv := min(8, (lp-c0)/4)
+		fmaRowsKernels[nv](&dst[c0], &rows[c0], &w[0], count, wstride, lp)
+	}
 }

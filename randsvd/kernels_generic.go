@@ -38,3 +38,7 @@ func marginal32(y []float64, buck []float32, l1, l2 *[64]uint8, lp int) {
 }
 
 func addRows32(dst, src, v []float32, rows, lp int) { addRows32Generic(dst, src, v, rows, lp) }
+
+func fmaRows(dst, rows, w []float64, count, wstride, lp int) {
+	fmaRowsGeneric(dst, rows, w, count, wstride, lp)
+}

@@ -24,6 +24,7 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		for q := range offs {
 			offs[q] = int32(r.IntN(nq+5) * rowBytes)
 		}
+		slices.Sort(offs) // ascending, as rowOffsets builds them (repeats allowed)
 		ng := 1 + r.IntN(min(12, rowBytes))
 		g := r.IntN(rowBytes - ng + 1)
 		tab := make([]float64, ng*256*lp)
@@ -53,6 +54,17 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			slices.Sort(idx)
 		}
 		one := src[:lp]
+		// Dense float rows: weights contiguous (first product) or strided
+		// (second product).
+		wstride := 1 + r.IntN(5)
+		cnt := 1 + r.IntN(nq)
+		wts := make([]float64, (cnt-1)*wstride+1)
+		for i := range wts {
+			wts[i] = r.NormFloat64()
+		}
+		ks = append(ks,
+			kern{"fmaRows", func(a []float64) { fmaRows(a, src, wts, cnt, wstride, lp) }, func(a []float64) { fmaRowsGeneric(a, src, wts, cnt, wstride, lp) }, lp},
+		)
 		ks = append(ks,
 			kern{"sumRows", func(a []float64) { sumRows(a, src, idx, lp) }, func(a []float64) { sumRowsGeneric(a, src, idx, lp) }, lp},
 			kern{"addRow", func(a []float64) { addRow(a, one, idx, lp) }, func(a []float64) { addRowGeneric(a, one, idx, lp) }, nq * lp},

@@ -310,7 +310,9 @@ type workspace struct {
 	scratch []float64 // threads x lp
 	part    []float64 // segments x b x lp partial first products
 	miss    [][]int32 // per block marker: samples with a missing call
+	missCut []int32   // per block marker: where miss crosses each segment start (segments+1)
 	z       []float64 // float stores: b x N standardized block
+	ss      []float64 // float stores: the chunk's per-marker sums of squares (reused)
 	trace   []float64 // float stores: per-marker sum of squares
 	tabs    [][]float64
 	block   []byte  // kept rows of consecutive chunks, gathered into one block
@@ -581,50 +583,39 @@ func grow(b []float64, n int) []float64 {
 	return b[:n]
 }
 
-// floatChunk applies one chunk of float values with dense products.
+// floatChunk applies one chunk of float values with dense products
+// (dense.go).
 func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
 	ws.csels = op.sels(c.Index, ws.csels)
 	sels := ws.csels
-	l, lp, n := ws.l, ws.lp, op.n
+	lp, n := ws.lp, op.n
 	nb := len(sels)
 	tr := op.floatFirst(ws, c, sels)
 	ws.trace = append(ws.trace, tr...)
 	segs := op.segs
 	op.forEach(len(segs)-1, func(sg, _ int) {
-		a, b := segs[sg], segs[sg+1]
-		for q := 0; q < nb; q++ {
-			z := ws.z[q*n : (q+1)*n]
-			w := ws.w[q*lp : q*lp+l]
-			for i := a; i < b; i++ {
-				zi := z[i]
-				if zi == 0 {
-					continue
-				}
-				yi := ws.y[i*lp : i*lp+l]
-				for k := range yi {
-					yi[k] += zi * w[k]
-				}
+		for i := segs[sg]; i < segs[sg+1]; i++ {
+			if op.isKept[i] {
+				fmaRows(ws.y[i*lp:i*lp+lp], ws.w, ws.z[i:], nb, n, lp)
 			}
 		}
 	})
 }
 
 // floatFirst decodes and standardizes a float chunk into ws.z and computes
-// W = Z_b X into ws.w; it returns each marker's sum of squares.
+// W = Z_b X into ws.w; it returns each marker's sum of squares (in a
+// buffer reused by the next chunk).
 func (op *Operator) floatFirst(ws *workspace, c *matrixio.Chunk, sels []sel) []float64 {
-	l, lp, n, nb := ws.l, ws.lp, op.n, len(sels)
+	lp, n, nb := ws.lp, op.n, len(sels)
 	rb := op.st.RowBytes()
 	ws.w = grow(ws.w, nb*lp)
 	ws.z = grow(ws.z, nb*n)
-	tr := make([]float64, nb)
+	ws.ss = grow(ws.ss, nb)
 	op.forEach(nb, func(q, _ int) {
 		s := sels[q]
 		row := c.Raw[int(s.off)*rb : (int(s.off)+1)*rb]
 		z := ws.z[q*n : (q+1)*n]
 		mu, inv := op.center[s.ord], op.scale[s.ord]
-		w := ws.w[q*lp : q*lp+lp]
-		clear(w)
-		w = w[:l]
 		var ss float64
 		for i := 0; i < n; i++ {
 			v := math.Float32frombits(uint32(row[4*i]) | uint32(row[4*i+1])<<8 | uint32(row[4*i+2])<<16 | uint32(row[4*i+3])<<24)
@@ -635,12 +626,11 @@ func (op *Operator) floatFirst(ws *workspace, c *matrixio.Chunk, sels []sel) []f
 			zi := (float64(v) - mu) * inv
 			z[i] = zi
 			ss += zi * zi
-			xi := ws.x[i*lp : i*lp+l]
-			for k := range w {
-				w[k] += zi * xi[k]
-			}
 		}
-		tr[q] = ss
+		w := ws.w[q*lp : q*lp+lp]
+		clear(w)
+		fmaRows(w, ws.x, z, n, 1, lp)
+		ws.ss[q] = ss
 	})
-	return tr
+	return ws.ss
 }

@@ -1,0 +1,104 @@
+#!/usr/bin/python3
+"""Pass benchmark: one pass of clinal (K X from the compressed 2-bit store,
+exact and fast) against numpy's two float32 products on the same
+standardized matrix held in memory (Debian python3-numpy with OpenBLAS),
+in one run on one machine, with the floors under each:
+
+- clinal: `passbench` (this folder) times a pass with 1 and 2 threads, and a
+  stream-only pass that reads and decompresses every chunk and computes
+  nothing: no pass from this store can be faster;
+- numpy: W = Z X and Y = Z^T W in float32 (Z markers x samples, X samples x
+  l), and the memory floor: two reads of Z at the bandwidth numpy's own
+  float32 sum over Z reaches here.
+
+Also reports allocations per pass (steady state) and the 1-to-2-thread
+speed-ups. A pass is 4*N*M*l flops of dense arithmetic (design.md).
+
+usage: benchmarks/kernels/bench.py [--samples 5000] [--markers 50000] [--l 20]
+"""
+import argparse, json, os, subprocess, sys
+
+ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+
+NUMPY_CHILD = r'''
+import sys, time, json, numpy as np
+z = np.load(sys.argv[1])                  # (M, N) float32, C order
+l, reps = int(sys.argv[2]), int(sys.argv[3])
+m, n = z.shape
+rng = np.random.default_rng(1)
+x = rng.standard_normal((n, l)).astype(np.float32)
+def timed(f):
+    f()
+    ts = []
+    for _ in range(reps):
+        t0 = time.perf_counter(); f(); ts.append(time.perf_counter() - t0)
+    return sorted(ts)[len(ts) // 2]
+def one_pass():
+    w = z @ x
+    y = z.T @ w
+    return y
+pass_s = timed(one_pass)
+sum_s = timed(lambda: z.sum(dtype=np.float32))
+print(json.dumps({"pass_seconds": pass_s, "read_seconds": sum_s, "bytes": z.nbytes,
+                  "floor_seconds": 2 * sum_s}))
+'''
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--samples", type=int, default=5000)
+    ap.add_argument("--markers", type=int, default=50000)
+    ap.add_argument("--l", type=int, default=20)
+    ap.add_argument("--reps", type=int, default=5)
+    ap.add_argument("--out", default=os.path.join(ROOT, "bench-out", "kernels"))
+    args = ap.parse_args()
+    os.makedirs(args.out, exist_ok=True)
+    exe = os.path.join(args.out, "clinal")
+    for pkg, name in (("./cmd/clinal", "clinal"), ("./benchmarks/kernels/passbench", "passbench"),
+                      ("./benchmarks/pca/dumpz", "dumpz")):
+        subprocess.check_call(["go", "build", "-o", os.path.join(args.out, name), pkg], cwd=ROOT)
+    st = os.path.join(args.out, f"cohort_{args.samples}x{args.markers}.clinal")
+    if not os.path.exists(st):
+        subprocess.check_call([exe, "simulate", "-o", st, "--samples", str(args.samples), "--markers",
+                               str(args.markers), "--populations", "3", "--fst", "0.05", "--seed", "1"])
+    npy = os.path.join(args.out, "z.npy")
+    if not os.path.exists(npy):
+        subprocess.check_call([os.path.join(args.out, "dumpz"), st, npy])
+    res = {}
+    for th in (1, 2):
+        out = subprocess.check_output([os.path.join(args.out, "passbench"), "-l", str(args.l), "-threads", str(th),
+                                       "-reps", str(args.reps), st])
+        res[f"clinal_t{th}"] = json.loads(out)
+    env = dict(os.environ, OPENBLAS_NUM_THREADS="2")
+    res["numpy"] = json.loads(subprocess.check_output(["/usr/bin/python3", "-c", NUMPY_CHILD, npy, str(args.l),
+                                                       str(args.reps)], env=env))
+    c1, c2, npy_r = res["clinal_t1"], res["clinal_t2"], res["numpy"]
+    flops = 4.0 * c2["Samples"] * c2["Markers"] * args.l
+    rows = [
+        ("clinal fast pass, 2 threads", c2["FastSeconds"]),
+        ("clinal exact pass, 2 threads", c2["ExactSeconds"]),
+        ("clinal fast pass, 1 thread", c1["FastSeconds"]),
+        ("clinal exact pass, 1 thread", c1["ExactSeconds"]),
+        ("clinal stream-only (read + zstd), 2 threads", c2["StreamSeconds"]),
+        ("numpy float32 Z X and Z^T W (OpenBLAS, 2 threads)", npy_r["pass_seconds"]),
+        ("numpy memory floor (2 reads of Z)", npy_r["floor_seconds"]),
+    ]
+    lines = ["what\tseconds\tGFLOP/s-equiv\tGgeno/s"]
+    for name, s in rows:
+        lines.append(f"{name}\t{s:.4f}\t{flops / s / 1e9:.1f}\t{c2['Samples'] * c2['Markers'] / s / 1e9:.2f}")
+    path = os.path.join(ROOT, "benchmarks", "kernels", "results.tsv")
+    with open(path, "w") as f:
+        f.write("\n".join(lines) + "\n")
+    print("\n".join(lines))
+    print(f"\n{c2['Samples']} x {c2['Markers']}, l = {args.l}")
+    print(f"clinal fast pass / numpy pass: {c2['FastSeconds'] / npy_r['pass_seconds']:.2f}x; "
+          f"exact: {c2['ExactSeconds'] / npy_r['pass_seconds']:.2f}x")
+    print(f"speed-up 1 -> 2 threads: fast {c1['FastSeconds'] / c2['FastSeconds']:.2f}x, "
+          f"exact {c1['ExactSeconds'] / c2['ExactSeconds']:.2f}x")
+    print(f"allocations per pass (2 threads): fast {c2['FastAllocs']:.0f} ({c2['FastBytes'] / 1024:.0f} KiB), "
+          f"exact {c2['ExactAllocs']:.0f} ({c2['ExactBytes'] / 1024:.0f} KiB)")
+    json.dump(res, open(os.path.join(args.out, "raw.json"), "w"), indent=1)
+
+
+if __name__ == "__main__":
+    main()
