@@ -541,56 +541,60 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 	if workers < 1 {
 		workers = 1
 	}
-	nbuf := workers + 1
-	free := make(chan *Chunk, nbuf)
-	for i := 0; i < nbuf; i++ {
-		free <- s.getChunk()
-	}
-	// Buffers go back to the store's pool when the stream ends, so repeated
-	// passes do not allocate them again. A buffer still being decoded when
-	// the stream is cancelled is left to the garbage collector.
-	defer func() {
-		for {
-			select {
-			case c := <-free:
-				s.putChunk(c)
-			default:
-				return
-			}
-		}
-	}()
+	// nbuf jobs, each with its chunk buffer and result channel, circulate
+	// for the whole stream (free -> decoders -> fn -> free), and a fixed set
+	// of decoder goroutines serves them: nothing is allocated per chunk.
 	type job struct {
+		c    int
 		buf  *Chunk
 		done chan error
 	}
+	nbuf := workers + 1
+	all := make([]*job, nbuf)
+	free := make(chan *job, nbuf)
+	for i := range all {
+		all[i] = &job{buf: s.getChunk(), done: make(chan error, 1)}
+		free <- all[i]
+	}
 	order := make(chan *job, nbuf)
+	work := make(chan *job, nbuf)
+	// Decoders still running when the stream stops are waited for, so no
+	// read of the file outlives Stream (the caller may Close the store);
+	// then every buffer goes back to the store's pool, so repeated passes
+	// do not allocate them again.
+	var decoders sync.WaitGroup
+	defer func() {
+		decoders.Wait()
+		for _, j := range all {
+			s.putChunk(j.buf)
+		}
+	}()
+	for w := 0; w < workers; w++ {
+		decoders.Add(1)
+		go func() {
+			defer decoders.Done()
+			for j := range work {
+				j.done <- s.ReadChunk(j.c, j.buf)
+			}
+		}()
+	}
 	g, ctx := errgroup.WithContext(ctx)
-	sem := make(chan struct{}, workers)
-	// Decodes still running when the stream stops are waited for, so no
-	// read of the file outlives Stream (the caller may Close the store).
-	var inflight sync.WaitGroup
-	defer inflight.Wait()
 	g.Go(func() error {
 		defer close(order)
+		defer close(work)
 		for _, c := range chunks {
-			var buf *Chunk
+			var j *job
 			select {
-			case buf = <-free:
+			case j = <-free:
 			case <-ctx.Done():
 				return ctx.Err()
 			}
-			j := &job{buf: buf, done: make(chan error, 1)}
+			j.c = c
 			select {
-			case sem <- struct{}{}:
+			case work <- j:
 			case <-ctx.Done():
 				return ctx.Err()
 			}
-			inflight.Add(1)
-			go func(c int) {
-				defer inflight.Done()
-				j.done <- s.ReadChunk(c, j.buf)
-				<-sem
-			}(c)
 			select {
 			case order <- j:
 			case <-ctx.Done():
@@ -613,7 +617,7 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 			if err := fn(j.buf); err != nil {
 				return err
 			}
-			free <- j.buf
+			free <- j
 		}
 		return nil
 	})

@@ -148,65 +148,78 @@ func findMissing(row []byte, n int, dst []int32) []int32 {
 }
 
 // genoFirst computes W = Z_b X for the kept markers of a 2-bit chunk into
-// ws.w (row q for sels[q]), and the missing lists ws.miss.
+// ws.w (row q for sels[q]), and the missing lists ws.miss. The parallel
+// parts are the jobs firstJob and reduceJob, which read the block from
+// ws.raw and ws.sels (no closure, so no allocation per block).
 func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
-	lp, n, nb := ws.lp, op.n, len(sels)
-	rb := op.st.RowBytes()
-	ws.offs = rowOffsets(sels, rb, ws.offs)
-	offs := ws.offs
-	segs := op.segs
-	nseg := len(segs) - 1
+	lp, nb := ws.lp, len(sels)
+	ws.raw, ws.sels = raw, sels
+	ws.offs = rowOffsets(sels, op.st.RowBytes(), ws.offs)
+	nseg := len(op.segs) - 1
 	ws.part = grow(ws.part, nseg*nb*lp)
 	ws.w = grow(ws.w, nb*lp)
 	for len(ws.miss) < nb {
 		ws.miss = append(ws.miss, nil)
 	}
-	op.forEach(nseg, func(sg, t int) {
-		part := ws.part[sg*nb*lp : (sg+1)*nb*lp]
-		clear(part)
-		op.firstTiles(ws, part, raw, offs, sg, t)
-	})
+	op.forEach(ws, nseg, (*Operator).firstJob)
 	ws.scratch = grow(ws.scratch, op.threads*lp)
 	if cap(ws.missCut) < nb*(nseg+1) {
 		ws.missCut = make([]int32, nb*(nseg+1))
 	}
 	ws.missCut = ws.missCut[:nb*(nseg+1)]
-	op.forEach(nb, func(q, t int) {
-		s := sels[q]
-		ws.miss[q] = findMissing(raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
-		// Where the (ascending) missing list crosses each segment start.
-		cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
-		k := 0
-		for sg := 0; sg <= nseg; sg++ {
-			for k < len(ws.miss[q]) && int(ws.miss[q][k]) < segs[sg] {
-				k++
-			}
-			cut[sg] = int32(k)
+	op.forEach(ws, nb, (*Operator).reduceJob)
+}
+
+// firstJob: the first product's tiles of sample segment sg into its
+// partial rows.
+func (op *Operator) firstJob(ws *workspace, sg, t int) {
+	nb, lp := len(ws.sels), ws.lp
+	part := ws.part[sg*nb*lp : (sg+1)*nb*lp]
+	clear(part)
+	op.firstTiles(ws, part, ws.raw, ws.offs, sg, t)
+}
+
+// reduceJob: marker q's missing calls, its W row summed over the segments
+// in order, and the standardization applied.
+func (op *Operator) reduceJob(ws *workspace, q, t int) {
+	lp, n, nb := ws.lp, op.n, len(ws.sels)
+	rb := op.st.RowBytes()
+	segs := op.segs
+	nseg := len(segs) - 1
+	s := ws.sels[q]
+	ws.miss[q] = findMissing(ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
+	// Where the (ascending) missing list crosses each segment start.
+	cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
+	k := 0
+	for sg := 0; sg <= nseg; sg++ {
+		for k < len(ws.miss[q]) && int(ws.miss[q][k]) < segs[sg] {
+			k++
 		}
-		w := ws.w[q*lp : q*lp+lp]
-		copy(w, ws.part[q*lp:q*lp+lp])
-		for sg := 1; sg < nseg; sg++ {
-			p := ws.part[(sg*nb+q)*lp : (sg*nb+q)*lp+lp]
-			for k := range w {
-				w[k] += p[k]
-			}
-		}
-		mu, inv := op.center[s.ord], op.scale[s.ord]
-		// T - S_j: the sum of X over the samples called at marker j.
-		if len(ws.miss[q]) == 0 {
-			for k := range w {
-				w[k] = (w[k] - mu*ws.tot[k]) * inv
-			}
-			return
-		}
-		// S_j, the sum of X over the missing samples.
-		miss := ws.scratch[t*lp : t*lp+lp]
-		sumRows(miss, ws.x, ws.miss[q], lp)
-		called := ws.tot
+		cut[sg] = int32(k)
+	}
+	w := ws.w[q*lp : q*lp+lp]
+	copy(w, ws.part[q*lp:q*lp+lp])
+	for sg := 1; sg < nseg; sg++ {
+		p := ws.part[(sg*nb+q)*lp : (sg*nb+q)*lp+lp]
 		for k := range w {
-			w[k] = (w[k] - mu*(called[k]-miss[k])) * inv
+			w[k] += p[k]
 		}
-	})
+	}
+	mu, inv := op.center[s.ord], op.scale[s.ord]
+	// T - S_j: the sum of X over the samples called at marker j.
+	if len(ws.miss[q]) == 0 {
+		for k := range w {
+			w[k] = (w[k] - mu*ws.tot[k]) * inv
+		}
+		return
+	}
+	// S_j, the sum of X over the missing samples.
+	miss := ws.scratch[t*lp : t*lp+lp]
+	sumRows(miss, ws.x, ws.miss[q], lp)
+	called := ws.tot
+	for k := range w {
+		w[k] = (w[k] - mu*(called[k]-miss[k])) * inv
+	}
 }
 
 // genoChunk applies one chunk of 2-bit calls: Y += Z_b^T Z_b X.
@@ -232,17 +245,20 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 			ws.wpp32[i] = float32(v)
 		}
 	}
-	offs := ws.offs // set by genoFirst for these sels
-	segs := op.segs
-	op.forEach(len(segs)-1, func(sg, t int) {
-		op.secondTiles(ws, raw, offs, sg, t)
-		// Missing calls have z = 0: give back the -mu_j W''_j of btot.
-		nseg := len(segs) - 1
-		for q := range sels {
-			cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
-			addRow(ws.y, ws.mwpp[q*lp:q*lp+lp], ws.miss[q][cut[sg]:cut[sg+1]], lp)
-		}
-	})
+	op.forEach(ws, len(op.segs)-1, (*Operator).secondJob)
+}
+
+// secondJob: the second product's tiles of sample segment sg, and the
+// missing-call corrections of its samples.
+func (op *Operator) secondJob(ws *workspace, sg, t int) {
+	lp := ws.lp
+	op.secondTiles(ws, ws.raw, ws.offs, sg, t)
+	// Missing calls have z = 0: give back the -mu_j W''_j of btot.
+	nseg := len(op.segs) - 1
+	for q := range ws.sels {
+		cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
+		addRow(ws.y, ws.mwpp[q*lp:q*lp+lp], ws.miss[q][cut[sg]:cut[sg+1]], lp)
+	}
 }
 
 // gatherTileGeneric: for each marker q, dst[q] += tab_t[byte g+t of its

@@ -315,11 +315,15 @@ type workspace struct {
 	ss      []float64 // float stores: the chunk's per-marker sums of squares (reused)
 	trace   []float64 // float stores: per-marker sum of squares
 	tabs    [][]float64
-	block   []byte  // kept rows of consecutive chunks, gathered into one block
-	bsels   []sel   // their selections (off = row within block)
-	csels   []sel   // selections of the chunk being processed
-	offs    []int32 // row offsets of the block being processed
-	err     error   // first error of a MarkerProducts callback
+	block   []byte   // kept rows of consecutive chunks, gathered into one block
+	bsels   []sel    // their selections (off = row within block)
+	csels   []sel    // selections of the chunk being processed
+	raw     []byte   // the block being processed (read by the jobs)
+	sels    []sel    // its selections
+	pool    chan int // the pass's helper goroutines (nil: run in the caller)
+	run     jobRun   // the job they are running
+	offs    []int32  // row offsets of the block being processed
+	err     error    // first error of a MarkerProducts callback
 }
 
 // blockTarget is the number of markers the 2-bit kernels want per block:
@@ -440,6 +444,7 @@ func (op *Operator) apply(ctx context.Context, x, y []float64, l int, fast bool)
 		return fmt.Errorf("operator: shapes x %d, y %d for %d x %d", len(x), len(y), nk, l)
 	}
 	ws := op.newWorkspace(x, l, true, fast)
+	defer op.startPool(ws)()
 	done := 0
 	err := op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
 		if err := ctx.Err(); err != nil {
@@ -493,6 +498,7 @@ func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn f
 		return fmt.Errorf("operator: shape x %d for %d x %d", len(x), nk, l)
 	}
 	ws := op.newWorkspace(x, l, false, false)
+	defer op.startPool(ws)()
 	ws.err = nil
 	emit := func(sels []sel) error {
 		for q, s := range sels {
@@ -530,43 +536,72 @@ func (op *Operator) MarkerProducts(ctx context.Context, x []float64, l int, fn f
 	return ws.err
 }
 
-// parallel runs fn(t) for t in [0, threads) and waits.
-func (op *Operator) parallel(fn func(t int)) {
-	if op.threads == 1 {
-		fn(0)
-		return
-	}
-	var wg sync.WaitGroup
-	for t := 0; t < op.threads; t++ {
-		wg.Add(1)
-		go func(t int) {
-			defer wg.Done()
-			fn(t)
-		}(t)
-	}
-	wg.Wait()
+// A job is one parallel part of a block's work: item is a marker or a
+// sample segment, worker the goroutine's index (for per-worker scratch).
+// Jobs are methods that read the block from the workspace, so handing one
+// out allocates nothing.
+type job func(op *Operator, ws *workspace, item, worker int)
+
+// jobRun is the job in progress: items are handed out dynamically.
+type jobRun struct {
+	fn   job
+	n    int
+	next atomic.Int64
+	wg   sync.WaitGroup
 }
 
-// forEach runs fn(item, worker) for item in [0, n) on the operator's
-// threads, handing out items dynamically. Callers make each item's result
-// independent of the worker, so scheduling never changes a number.
-func (op *Operator) forEach(n int, fn func(item, worker int)) {
-	if op.threads == 1 || n == 1 {
+func (r *jobRun) work(op *Operator, ws *workspace, worker int) {
+	for {
+		i := int(r.next.Add(1) - 1)
+		if i >= r.n {
+			return
+		}
+		r.fn(op, ws, i, worker)
+	}
+}
+
+// startPool starts the pass's threads-1 helper goroutines (the caller is
+// worker 0); the returned function stops them. One pool serves every block
+// of a pass, so the steady state allocates nothing per block.
+func (op *Operator) startPool(ws *workspace) func() {
+	if op.threads == 1 {
+		return func() {}
+	}
+	ch := make(chan int, op.threads)
+	ws.pool = ch
+	for t := 1; t < op.threads; t++ {
+		go func() {
+			for w := range ch {
+				ws.run.work(op, ws, w)
+				ws.run.wg.Done()
+			}
+		}()
+	}
+	return func() {
+		close(ch)
+		ws.pool = nil
+	}
+}
+
+// forEach runs fn for item in [0, n) on the pass's pool and waits. Callers
+// make each item's result independent of the worker, so scheduling never
+// changes a number.
+func (op *Operator) forEach(ws *workspace, n int, fn job) {
+	if ws.pool == nil || n == 1 {
 		for i := 0; i < n; i++ {
-			fn(i, 0)
+			fn(op, ws, i, 0)
 		}
 		return
 	}
-	var next atomic.Int64
-	op.parallel(func(t int) {
-		for {
-			i := int(next.Add(1) - 1)
-			if i >= n {
-				return
-			}
-			fn(i, t)
-		}
-	})
+	r := &ws.run
+	r.fn, r.n = fn, n
+	r.next.Store(0)
+	r.wg.Add(op.threads - 1)
+	for t := 1; t < op.threads; t++ {
+		ws.pool <- t
+	}
+	r.work(op, ws, 0)
+	r.wg.Wait()
 }
 
 func grow32(b []float32, n int) []float32 {
@@ -587,19 +622,19 @@ func grow(b []float64, n int) []float64 {
 // (dense.go).
 func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
 	ws.csels = op.sels(c.Index, ws.csels)
-	sels := ws.csels
-	lp, n := ws.lp, op.n
-	nb := len(sels)
-	tr := op.floatFirst(ws, c, sels)
+	tr := op.floatFirst(ws, c, ws.csels)
 	ws.trace = append(ws.trace, tr...)
-	segs := op.segs
-	op.forEach(len(segs)-1, func(sg, _ int) {
-		for i := segs[sg]; i < segs[sg+1]; i++ {
-			if op.isKept[i] {
-				fmaRows(ws.y[i*lp:i*lp+lp], ws.w, ws.z[i:], nb, n, lp)
-			}
+	op.forEach(ws, len(op.segs)-1, (*Operator).floatSecondJob)
+}
+
+// floatSecondJob: Y_i += sum_q z_qi W_q for the kept samples of segment sg.
+func (op *Operator) floatSecondJob(ws *workspace, sg, _ int) {
+	lp, n, nb := ws.lp, op.n, len(ws.sels)
+	for i := op.segs[sg]; i < op.segs[sg+1]; i++ {
+		if op.isKept[i] {
+			fmaRows(ws.y[i*lp:i*lp+lp], ws.w, ws.z[i:], nb, n, lp)
 		}
-	})
+	}
 }
 
 // floatFirst decodes and standardizes a float chunk into ws.z and computes
@@ -607,30 +642,36 @@ func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
 // buffer reused by the next chunk).
 func (op *Operator) floatFirst(ws *workspace, c *matrixio.Chunk, sels []sel) []float64 {
 	lp, n, nb := ws.lp, op.n, len(sels)
-	rb := op.st.RowBytes()
+	ws.raw, ws.sels = c.Raw, sels
 	ws.w = grow(ws.w, nb*lp)
 	ws.z = grow(ws.z, nb*n)
 	ws.ss = grow(ws.ss, nb)
-	op.forEach(nb, func(q, _ int) {
-		s := sels[q]
-		row := c.Raw[int(s.off)*rb : (int(s.off)+1)*rb]
-		z := ws.z[q*n : (q+1)*n]
-		mu, inv := op.center[s.ord], op.scale[s.ord]
-		var ss float64
-		for i := 0; i < n; i++ {
-			v := math.Float32frombits(uint32(row[4*i]) | uint32(row[4*i+1])<<8 | uint32(row[4*i+2])<<16 | uint32(row[4*i+3])<<24)
-			if v != v || !op.isKept[i] {
-				z[i] = 0
-				continue
-			}
-			zi := (float64(v) - mu) * inv
-			z[i] = zi
-			ss += zi * zi
-		}
-		w := ws.w[q*lp : q*lp+lp]
-		clear(w)
-		fmaRows(w, ws.x, z, n, 1, lp)
-		ws.ss[q] = ss
-	})
+	op.forEach(ws, nb, (*Operator).floatFirstJob)
 	return ws.ss
+}
+
+// floatFirstJob standardizes marker q's values into its row of ws.z and
+// sets W_q = sum_i z_qi X_i.
+func (op *Operator) floatFirstJob(ws *workspace, q, _ int) {
+	lp, n := ws.lp, op.n
+	rb := op.st.RowBytes()
+	s := ws.sels[q]
+	row := ws.raw[int(s.off)*rb : (int(s.off)+1)*rb]
+	z := ws.z[q*n : (q+1)*n]
+	mu, inv := op.center[s.ord], op.scale[s.ord]
+	var ss float64
+	for i := 0; i < n; i++ {
+		v := math.Float32frombits(uint32(row[4*i]) | uint32(row[4*i+1])<<8 | uint32(row[4*i+2])<<16 | uint32(row[4*i+3])<<24)
+		if v != v || !op.isKept[i] {
+			z[i] = 0
+			continue
+		}
+		zi := (float64(v) - mu) * inv
+		z[i] = zi
+		ss += zi * zi
+	}
+	w := ws.w[q*lp : q*lp+lp]
+	clear(w)
+	fmaRows(w, ws.x, z, n, 1, lp)
+	ws.ss[q] = ss
 }
