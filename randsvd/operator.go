@@ -384,32 +384,40 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		lp = (l + 7) &^ 7 // whole float32 vectors
 	}
 	ws := op.ws
-	if ws == nil || ws.l != l || ws.fast != fast {
-		ws = &workspace{l: l, lp: lp, fast: fast, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
-		if fast {
+	if ws == nil || ws.l != l {
+		// Buffers sized for the wider (fast) layout, so that switching
+		// between fast and exact passes reuses them.
+		lpMax := (l + 7) &^ 7
+		ws = &workspace{l: l, x: make([]float64, op.n*lpMax), tot: make([]float64, lpMax), btot: make([]float64, lpMax)}
+		op.ws = ws
+	}
+	if ws.lp != lp || ws.fast != fast || len(ws.x) != op.n*lp {
+		// New row layout: rows of dropped samples and padding columns
+		// must read as zero.
+		ws.lp, ws.fast = lp, fast
+		ws.x = ws.x[:op.n*lp]
+		clear(ws.x)
+		if fast && ws.x32 == nil {
 			ws.x32 = make([]float32, op.n*lp)
 			ws.tabs32 = make([][]float32, op.threads)
 			for t := range ws.tabs32 {
 				ws.tabs32[t] = make([]float32, tileGroups32(lp)*256*lp)
 			}
-		} else {
+		}
+		if !fast && ws.tabs == nil {
 			ws.tabs = make([][]float64, op.threads)
 			for t := range ws.tabs {
 				ws.tabs[t] = make([]float64, tileGroups(lp)*256*lp)
 			}
 		}
-		op.ws = ws
-	} else {
-		clear(ws.tot)
-		clear(ws.btot)
-		ws.trace = ws.trace[:0]
 	}
+	ws.tot, ws.btot = ws.tot[:lp], ws.btot[:lp]
+	clear(ws.tot)
+	clear(ws.btot)
+	ws.trace = ws.trace[:0]
 	if second {
-		if len(ws.y) != op.n*lp {
-			ws.y = make([]float64, op.n*lp)
-		} else {
-			clear(ws.y)
-		}
+		ws.y = grow(ws.y, op.n*lp)
+		clear(ws.y)
 	}
 	for r, i := range op.kept {
 		copy(ws.x[i*lp:i*lp+l], x[r*l:(r+1)*l])
