@@ -367,21 +367,23 @@ func kbTable(b []byte) error {
 func TestSignalStop(t *testing.T) {
 	k := kbSetup(t)
 	for _, cmd := range k.commands() {
+		base := t.TempDir()
 		if cmd.setup != nil {
-			// Cluster runs: their signal handling (scancel of a step or of
-			// the job, then resume) is tested in cluster_test.go.
-			continue
+			k.run(t, cmd.setup(base))
 		}
-		normal, _ := k.run(t, cmd.args(t.TempDir()))
+		normal, _ := k.run(t, cmd.args(base))
 		for _, sig := range []syscall.Signal{syscall.SIGINT, syscall.SIGTERM} {
 			t.Run(cmd.name+"/"+sig.String(), func(t *testing.T) {
 				hint := "rerun the same command to start again"
-				if cmd.name == "pca" {
+				if cmd.name == "pca" || cmd.name == "cluster" {
 					hint = "rerun the same command to resume from the last completed pass"
 				}
 				d := normal * 4 / 10
 				for try := 0; ; try++ {
 					out := t.TempDir()
+					if cmd.setup != nil {
+						k.run(t, cmd.setup(out))
+					}
 					code, stderr := kbSignal(t, k.bin, cmd.args(out), sig, max(d, 30*time.Millisecond))
 					if code == 0 && try < 4 {
 						d /= 2 // finished before the signal: try earlier
@@ -394,7 +396,7 @@ func TestSignalStop(t *testing.T) {
 					if !strings.HasSuffix(stderr, want) {
 						t.Errorf("stderr %q, want it to end with %q", stderr, want)
 					}
-					_, partials, bad := kbCheckDir(t, out, "")
+					_, partials, bad := kbCheckDir(t, out, cmd.skipDir)
 					if partials != 0 {
 						t.Errorf("%d *.partial temporaries left after %s", partials, sig)
 					}

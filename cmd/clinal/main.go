@@ -109,7 +109,7 @@ func run(ctx context.Context, e *env, args []string) int {
 			code = 128 + int(in.sig)
 		}
 		hint := "rerun the same command to start again"
-		if args[0] == "pca" {
+		if args[0] == "pca" || args[0] == "cluster" {
 			hint = "rerun the same command to resume from the last completed pass"
 		}
 		fmt.Fprintf(e.stderr, "clinal %s: interrupted; no partial output left; %s\n", args[0], hint)
