@@ -128,21 +128,25 @@ func rowOffsets(sels []sel, rb int, buf []int32) []int32 {
 func findMissing(row []byte, n int, dst []int32) []int32 {
 	dst = dst[:0]
 	const lo = 0x5555555555555555
-	for bi := 0; bi < len(row); bi += 8 {
-		var x uint64
-		if bi+8 <= len(row) {
-			x = binary.LittleEndian.Uint64(row[bi:])
-		} else {
-			var buf [8]byte
-			copy(buf[:], row[bi:])
-			x = binary.LittleEndian.Uint64(buf[:])
-		}
+	nw := len(row) / 8
+	for w := 0; w < nw; w++ {
+		x := binary.LittleEndian.Uint64(row[8*w:])
 		for m := x & (x >> 1) & lo; m != 0; m &= m - 1 {
-			i := 4*bi + bits.TrailingZeros64(m)/2
-			if i < n {
-				dst = append(dst, int32(i))
-			}
+			dst = append(dst, int32(32*w+bits.TrailingZeros64(m)/2))
 		}
+	}
+	if nw*8 < len(row) {
+		var buf [8]byte
+		copy(buf[:], row[nw*8:])
+		x := binary.LittleEndian.Uint64(buf[:])
+		for m := x & (x >> 1) & lo; m != 0; m &= m - 1 {
+			dst = append(dst, int32(32*nw+bits.TrailingZeros64(m)/2))
+		}
+	}
+	// Codes past the last sample (the padding of the last byte) are not
+	// samples; the list is ascending, so they are at its end.
+	for len(dst) > 0 && int(dst[len(dst)-1]) >= n {
+		dst = dst[:len(dst)-1]
 	}
 	return dst
 }

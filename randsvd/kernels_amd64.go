@@ -118,7 +118,7 @@ var (
 )
 
 // sumRows sets dst[:lp] to the sum of the rows x[i] (stride lp) for i in
-// idx, added in list order from zero.
+// idx (ascending), added in list order from zero.
 func sumRows(dst, x []float64, idx []int32, lp int) {
 	if !useAVX2 || len(idx) == 0 || lp == 0 {
 		sumRowsGeneric(dst, x, idx, lp)
@@ -131,7 +131,8 @@ func sumRows(dst, x []float64, idx []int32, lp int) {
 	}
 }
 
-// addRow adds v[:lp] to the rows y[i] (stride lp) for i in idx.
+// addRow adds v[:lp] to the rows y[i] (stride lp) for i in idx
+// (ascending).
 func addRow(y, v []float64, idx []int32, lp int) {
 	if !useAVX2 || len(idx) == 0 || lp == 0 {
 		addRowGeneric(y, v, idx, lp)
@@ -145,15 +146,14 @@ func addRow(y, v []float64, idx []int32, lp int) {
 }
 
 // checkRows guards sumRows and addRow: one row of lp, and every indexed row
-// inside the row array.
+// inside the row array. Index lists are ascending (findMissing builds them
+// so), so the first and last bound them.
 func checkRows(oneLen, rowsLen int, idx []int32, lp int) {
 	if lp%4 != 0 || oneLen < lp {
 		panic("randsvd: row kernel shape out of range")
 	}
-	for _, i := range idx {
-		if i < 0 || (int(i)+1)*lp > rowsLen {
-			panic("randsvd: row kernel index out of range")
-		}
+	if lo, hi := idx[0], idx[len(idx)-1]; lo < 0 || lo > hi || (int(hi)+1)*lp > rowsLen {
+		panic("randsvd: row kernel index out of range")
 	}
 }
 
