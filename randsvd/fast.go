@@ -25,42 +25,7 @@ func tileGroups32(lp int) int {
 // buildTable32 is buildTable in float32: tab (256 rows of lp) gets
 // sum_s val(code_s(v)) x_{4g+s} for every byte value v, summed in float32
 // in the same order by addRows32.
-func buildTable32(tab, x []float32, g, n, lp int) {
-	var stack [128]float32
-	x2 := stack[:0]
-	if lp <= len(stack) {
-		x2 = stack[:lp]
-	} else {
-		x2 = make([]float32, lp)
-	}
-	clear(tab[:4*lp])
-	i0 := 4 * g
-	if i0 < n {
-		x0 := x[i0*lp : i0*lp+lp]
-		copy(tab[lp:2*lp], x0)
-		t2 := tab[2*lp : 3*lp]
-		for k, v := range x0 {
-			t2[k] = 2 * v
-		}
-	}
-	span := 4
-	for s := 1; s < 4; s++ {
-		i := i0 + s
-		copy(tab[3*span*lp:4*span*lp], tab[:span*lp])
-		if i < n {
-			xi := x[i*lp : i*lp+lp]
-			for k, v := range xi {
-				x2[k] = 2 * v
-			}
-			addRows32(tab[span*lp:2*span*lp], tab[:span*lp], xi, span, lp)
-			addRows32(tab[2*span*lp:3*span*lp], tab[:span*lp], x2, span, lp)
-		} else {
-			copy(tab[span*lp:2*span*lp], tab[:span*lp])
-			copy(tab[2*span*lp:3*span*lp], tab[:span*lp])
-		}
-		span *= 4
-	}
-}
+func buildTable32(tab, x []float32, g, n, lp int) { buildTab(tab, x, g, n, lp, addRows32) }
 
 // addRows32Generic sets dst[r] = src[r] + v for r < rows.
 func addRows32Generic(dst, src, v []float32, rows, lp int) {

@@ -62,13 +62,17 @@ var marginalIdx = func() (m [4][2][64]uint8) {
 
 // buildTable fills tab (256 rows of lp) with sum_s val(code_s(v)) x_{4g+s}
 // for every byte value v; rows of samples beyond n count as zero.
-func buildTable(tab, x []float64, g, n, lp int) {
-	var stack [128]float64
+func buildTable(tab, x []float64, g, n, lp int) { buildTab(tab, x, g, n, lp, addRows) }
+
+// buildTab is buildTable for float64 or float32 rows, with add the row
+// kernel of that precision (dst[r] = src[r] + v).
+func buildTab[F float32 | float64](tab, x []F, g, n, lp int, add func(dst, src, v []F, rows, lp int)) {
+	var stack [128]F
 	x2 := stack[:0]
 	if lp <= len(stack) {
 		x2 = stack[:lp]
 	} else {
-		x2 = make([]float64, lp)
+		x2 = make([]F, lp)
 	}
 	clear(tab[:4*lp])
 	i0 := 4 * g
@@ -91,8 +95,8 @@ func buildTable(tab, x []float64, g, n, lp int) {
 			for k, v := range xi {
 				x2[k] = 2 * v
 			}
-			addRows(tab[span*lp:2*span*lp], tab[:span*lp], xi, span, lp)
-			addRows(tab[2*span*lp:3*span*lp], tab[:span*lp], x2, span, lp)
+			add(tab[span*lp:2*span*lp], tab[:span*lp], xi, span, lp)
+			add(tab[2*span*lp:3*span*lp], tab[:span*lp], x2, span, lp)
 		} else {
 			copy(tab[span*lp:2*span*lp], tab[:span*lp])
 			copy(tab[2*span*lp:3*span*lp], tab[:span*lp])

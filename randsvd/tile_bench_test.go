@@ -12,25 +12,7 @@ import (
 func BenchmarkTiles(b *testing.B) {
 	const nb, rb, lp = 2048, 1250, 20 + 4 - 20%4
 	r := rand.New(rand.NewPCG(3, 3))
-	raw := make([]byte, nb*rb)
-	for i := range raw {
-		var v byte
-		for s := 0; s < 4; s++ {
-			c := byte(0)
-			if r.Float64() < 0.3 {
-				c++
-			}
-			if r.Float64() < 0.3 {
-				c++
-			}
-			v |= c << (2 * s)
-		}
-		raw[i] = v
-	}
-	offs := make([]int32, nb)
-	for q := range offs {
-		offs[q] = int32(q * rb)
-	}
+	raw, offs := benchBlock(r, nb, rb)
 	rows := make([]float64, nb*lp)
 	for _, ng := range []int{4, 8} {
 		tab := make([]float64, ng*256*lp)
@@ -62,25 +44,7 @@ func BenchmarkTiles(b *testing.B) {
 func BenchmarkTiles32(b *testing.B) {
 	const nb, rb, lp = 2048, 1250, 24
 	r := rand.New(rand.NewPCG(3, 3))
-	raw := make([]byte, nb*rb)
-	for i := range raw {
-		var v byte
-		for s := 0; s < 4; s++ {
-			c := byte(0)
-			if r.Float64() < 0.3 {
-				c++
-			}
-			if r.Float64() < 0.3 {
-				c++
-			}
-			v |= c << (2 * s)
-		}
-		raw[i] = v
-	}
-	offs := make([]int32, nb)
-	for q := range offs {
-		offs[q] = int32(q * rb)
-	}
+	raw, offs := benchBlock(r, nb, rb)
 	rows := make([]float64, nb*lp)
 	rows32 := make([]float32, nb*lp)
 	for _, ng := range []int{4, 8, 16} {
@@ -106,4 +70,29 @@ func BenchmarkTiles32(b *testing.B) {
 			})
 		}
 	}
+}
+
+// benchBlock returns nb packed rows of rb bytes with codes drawn at allele
+// frequency 0.3 (no missing calls) and their row offsets.
+func benchBlock(r *rand.Rand, nb, rb int) ([]byte, []int32) {
+	raw := make([]byte, nb*rb)
+	for i := range raw {
+		var v byte
+		for s := 0; s < 4; s++ {
+			c := byte(0)
+			if r.Float64() < 0.3 {
+				c++
+			}
+			if r.Float64() < 0.3 {
+				c++
+			}
+			v |= c << (2 * s)
+		}
+		raw[i] = v
+	}
+	offs := make([]int32, nb)
+	for q := range offs {
+		offs[q] = int32(q * rb)
+	}
+	return raw, offs
 }
