@@ -60,7 +60,7 @@ def main():
     st = os.path.join(args.out, f"cohort_{args.samples}x{args.markers}.clinal")
     if not os.path.exists(st):
         subprocess.check_call([exe, "simulate", "-o", st, "--samples", str(args.samples), "--markers",
-                               str(args.markers), "--populations", "3", "--fst", "0.05", "--seed", "1"])
+                               str(args.markers), "--populations", "3", "--fst", "0.05", "--admixed", "0", "--seed", "1"])
     npy = os.path.join(args.out, "z.npy")
     if not os.path.exists(npy):
         subprocess.check_call([os.path.join(args.out, "dumpz"), st, npy])
