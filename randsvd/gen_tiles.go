@@ -198,109 +198,12 @@ func main() {
 		p("\tVZEROUPPER")
 		p("\tRET")
 	}
-	for nv := 1; nv <= 4; nv++ {
-		// Float32 gather: two markers at a time, f32 sums over the tile's
-		// groups, then widened and added to the float64 rows.
-		p("")
-		p("// func gather32V%d(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)", nv)
-		p("TEXT ·gather32V%d(SB), NOSPLIT, $0-56", nv)
-		prologue32(p, "dst", "tab")
-		p("\tCMPQ CX, $2")
-		p("\tJLT h%dsingle", nv)
-		p("h%dpair:", nv)
-		p("\tMOVLQSX (R9), AX")
-		p("\tLEAQ (R8)(AX*1), BX")
-		p("\tMOVLQSX 4(R9), AX")
-		p("\tLEAQ (R8)(AX*1), R14")
-		for i := 0; i < 2*nv; i++ {
-			p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
+	for nv := 0; nv <= 4; nv++ {
+		for tail := 0; tail <= 1; tail++ {
+			if nv+tail > 0 {
+				gen32(p, nv, tail)
+			}
 		}
-		p("\tMOVQ SI, R13")
-		p("\tMOVQ R10, DX")
-		p("h%dpinner:", nv)
-		p("\tMOVBQZX (BX), AX")
-		p("\tIMULQ R11, AX")
-		p("\tADDQ R13, AX")
-		p("\tMOVBQZX (R14), R15")
-		p("\tIMULQ R11, R15")
-		p("\tADDQ R13, R15")
-		for i := 0; i < nv; i++ {
-			p("\tVADDPS %d(AX), Y%d, Y%d", 32*i, i, i)
-			p("\tVADDPS %d(R15), Y%d, Y%d", 32*i, nv+i, nv+i)
-		}
-		p("\tINCQ BX")
-		p("\tINCQ R14")
-		p("\tADDQ R12, R13")
-		p("\tDECQ DX")
-		p("\tJNZ h%dpinner", nv)
-		widen(p, nv, 0, "DI", 0)
-		p("\tADDQ R11, DI")
-		p("\tADDQ R11, DI")
-		widen(p, nv, nv, "DI", 0)
-		p("\tADDQ R11, DI")
-		p("\tADDQ R11, DI")
-		p("\tADDQ $8, R9")
-		p("\tSUBQ $2, CX")
-		p("\tCMPQ CX, $2")
-		p("\tJGE h%dpair", nv)
-		p("h%dsingle:", nv)
-		p("\tTESTQ CX, CX")
-		p("\tJZ h%ddone", nv)
-		p("\tMOVLQSX (R9), AX")
-		p("\tLEAQ (R8)(AX*1), BX")
-		for i := 0; i < nv; i++ {
-			p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
-		}
-		p("\tMOVQ SI, R13")
-		p("\tMOVQ R10, DX")
-		p("h%dinner:", nv)
-		p("\tMOVBQZX (BX), AX")
-		p("\tIMULQ R11, AX")
-		p("\tADDQ R13, AX")
-		for i := 0; i < nv; i++ {
-			p("\tVADDPS %d(AX), Y%d, Y%d", 32*i, i, i)
-		}
-		p("\tINCQ BX")
-		p("\tADDQ R12, R13")
-		p("\tDECQ DX")
-		p("\tJNZ h%dinner", nv)
-		widen(p, nv, 0, "DI", 0)
-		p("h%ddone:", nv)
-		p("\tVZEROUPPER")
-		p("\tRET")
-
-		p("")
-		p("// func scatter32V%d(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)", nv)
-		p("TEXT ·scatter32V%d(SB), NOSPLIT, $0-56", nv)
-		prologue32(p, "buck", "src")
-		p("t%dloop:", nv)
-		p("\tMOVLQSX (R9), AX")
-		p("\tLEAQ (R8)(AX*1), BX")
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPS %d(SI), Y%d", 32*i, i)
-		}
-		p("\tMOVQ DI, R13")
-		p("\tMOVQ R10, DX")
-		p("t%dinner:", nv)
-		p("\tMOVBQZX (BX), AX")
-		p("\tIMULQ R11, AX")
-		p("\tADDQ R13, AX")
-		for i := 0; i < nv; i++ {
-			p("\tVADDPS %d(AX), Y%d, Y%d", 32*i, i, 8+i)
-		}
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPS Y%d, %d(AX)", 8+i, 32*i)
-		}
-		p("\tINCQ BX")
-		p("\tADDQ R12, R13")
-		p("\tDECQ DX")
-		p("\tJNZ t%dinner", nv)
-		p("\tADDQ R11, SI")
-		p("\tADDQ $4, R9")
-		p("\tDECQ CX")
-		p("\tJNZ t%dloop", nv)
-		p("\tVZEROUPPER")
-		p("\tRET")
 	}
 	for nv := 1; nv <= 8; nv++ {
 		// Dense rows for float (dosage) stores: dst += sum_c w[c*ws] *
@@ -372,18 +275,161 @@ func prologue32(p func(string, ...any), a0, a1 string) {
 	p("\tSHLQ $8, R12")
 }
 
-// widen adds the nv float32 accumulators Y(first)..Y(first+nv-1), widened
-// to float64, to the float64 row at base: 8 floats make two float64
-// vectors, low half first.
-func widen(p func(string, ...any), nv, first int, base string, off int) {
+// vec32 is one vector of a float32 row chunk: its byte offset in the
+// float32 row and whether it is a full 8-float YMM vector or a 4-float
+// XMM tail.
+type vec32 struct {
+	off  int
+	full bool
+}
+
+func vecs32(nv, tail int) []vec32 {
+	var v []vec32
 	for i := 0; i < nv; i++ {
+		v = append(v, vec32{32 * i, true})
+	}
+	if tail == 1 {
+		v = append(v, vec32{32 * nv, false})
+	}
+	return v
+}
+
+// reg names register r as YMM for a full vector, XMM for a tail.
+func (v vec32) reg(r int) string {
+	if v.full {
+		return fmt.Sprintf("Y%d", r)
+	}
+	return fmt.Sprintf("X%d", r)
+}
+
+// gen32 writes gather32V<nv>T<tail> and scatter32V<nv>T<tail>: the
+// float32 kernels of fast passes for a row chunk of nv full vectors and an
+// optional 4-float tail (rows are multiples of 4 floats). The gather goes
+// two markers at a time, sums a marker's tile in float32 from zero, then
+// widens the sums and adds them to its float64 row.
+func gen32(p func(string, ...any), nv, tail int) {
+	vs := vecs32(nv, tail)
+	k := len(vs)
+	name := fmt.Sprintf("V%dT%d", nv, tail)
+	lbl := fmt.Sprintf("h%d%d", nv, tail)
+	p("")
+	p("// func gather32%s(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)", name)
+	p("TEXT ·gather32%s(SB), NOSPLIT, $0-56", name)
+	prologue32(p, "dst", "tab")
+	p("\tCMPQ CX, $2")
+	p("\tJLT %ssingle", lbl)
+	p("%spair:", lbl)
+	p("\tMOVLQSX (R9), AX")
+	p("\tLEAQ (R8)(AX*1), BX")
+	p("\tMOVLQSX 4(R9), AX")
+	p("\tLEAQ (R8)(AX*1), R14")
+	for i := 0; i < 2*k; i++ {
+		p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
+	}
+	p("\tMOVQ SI, R13")
+	p("\tMOVQ R10, DX")
+	p("%spinner:", lbl)
+	p("\tMOVBQZX (BX), AX")
+	p("\tIMULQ R11, AX")
+	p("\tADDQ R13, AX")
+	p("\tMOVBQZX (R14), R15")
+	p("\tIMULQ R11, R15")
+	p("\tADDQ R13, R15")
+	for i, v := range vs {
+		p("\tVADDPS %d(AX), %s, %s", v.off, v.reg(i), v.reg(i))
+		p("\tVADDPS %d(R15), %s, %s", v.off, v.reg(k+i), v.reg(k+i))
+	}
+	p("\tINCQ BX")
+	p("\tINCQ R14")
+	p("\tADDQ R12, R13")
+	p("\tDECQ DX")
+	p("\tJNZ %spinner", lbl)
+	widen(p, vs, 0, "DI")
+	p("\tADDQ R11, DI")
+	p("\tADDQ R11, DI")
+	widen(p, vs, k, "DI")
+	p("\tADDQ R11, DI")
+	p("\tADDQ R11, DI")
+	p("\tADDQ $8, R9")
+	p("\tSUBQ $2, CX")
+	p("\tCMPQ CX, $2")
+	p("\tJGE %spair", lbl)
+	p("%ssingle:", lbl)
+	p("\tTESTQ CX, CX")
+	p("\tJZ %sdone", lbl)
+	p("\tMOVLQSX (R9), AX")
+	p("\tLEAQ (R8)(AX*1), BX")
+	for i := 0; i < k; i++ {
+		p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
+	}
+	p("\tMOVQ SI, R13")
+	p("\tMOVQ R10, DX")
+	p("%sinner:", lbl)
+	p("\tMOVBQZX (BX), AX")
+	p("\tIMULQ R11, AX")
+	p("\tADDQ R13, AX")
+	for i, v := range vs {
+		p("\tVADDPS %d(AX), %s, %s", v.off, v.reg(i), v.reg(i))
+	}
+	p("\tINCQ BX")
+	p("\tADDQ R12, R13")
+	p("\tDECQ DX")
+	p("\tJNZ %sinner", lbl)
+	widen(p, vs, 0, "DI")
+	p("%sdone:", lbl)
+	p("\tVZEROUPPER")
+	p("\tRET")
+
+	lbl = fmt.Sprintf("t%d%d", nv, tail)
+	p("")
+	p("// func scatter32%s(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)", name)
+	p("TEXT ·scatter32%s(SB), NOSPLIT, $0-56", name)
+	prologue32(p, "buck", "src")
+	p("%sloop:", lbl)
+	p("\tMOVLQSX (R9), AX")
+	p("\tLEAQ (R8)(AX*1), BX")
+	for i, v := range vs {
+		p("\tVMOVUPS %d(SI), %s", v.off, v.reg(i))
+	}
+	p("\tMOVQ DI, R13")
+	p("\tMOVQ R10, DX")
+	p("%sinner:", lbl)
+	p("\tMOVBQZX (BX), AX")
+	p("\tIMULQ R11, AX")
+	p("\tADDQ R13, AX")
+	for i, v := range vs {
+		p("\tVADDPS %d(AX), %s, %s", v.off, v.reg(i), v.reg(8+i))
+	}
+	for i, v := range vs {
+		p("\tVMOVUPS %s, %d(AX)", v.reg(8+i), v.off)
+	}
+	p("\tINCQ BX")
+	p("\tADDQ R12, R13")
+	p("\tDECQ DX")
+	p("\tJNZ %sinner", lbl)
+	p("\tADDQ R11, SI")
+	p("\tADDQ $4, R9")
+	p("\tDECQ CX")
+	p("\tJNZ %sloop", lbl)
+	p("\tVZEROUPPER")
+	p("\tRET")
+}
+
+// widen adds the float32 accumulators of vs, in registers first.., widened
+// to float64, to the float64 row at base (whose byte offsets are twice the
+// float32 ones): a full vector makes two float64 vectors, low half first.
+func widen(p func(string, ...any), vs []vec32, first int, base string) {
+	for i, v := range vs {
 		r := first + i
 		p("\tVCVTPS2PD X%d, Y14", r)
-		p("\tVADDPD %d(%s), Y14, Y14", off+64*i, base)
-		p("\tVMOVUPD Y14, %d(%s)", off+64*i, base)
+		p("\tVADDPD %d(%s), Y14, Y14", 2*v.off, base)
+		p("\tVMOVUPD Y14, %d(%s)", 2*v.off, base)
+		if !v.full {
+			continue
+		}
 		p("\tVEXTRACTF128 $1, Y%d, X15", r)
 		p("\tVCVTPS2PD X15, Y15")
-		p("\tVADDPD %d(%s), Y15, Y15", off+64*i+32, base)
-		p("\tVMOVUPD Y15, %d(%s)", off+64*i+32, base)
+		p("\tVADDPD %d(%s), Y15, Y15", 2*v.off+32, base)
+		p("\tVMOVUPD Y15, %d(%s)", 2*v.off+32, base)
 	}
 }

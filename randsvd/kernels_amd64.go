@@ -238,43 +238,75 @@ func addRows(dst, src, v []float64, rows, lp int) {
 // The float32 kernels of the fast passes (see fast.go).
 
 //go:noescape
-func gather32V1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
-func gather32V2(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
-func gather32V3(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
-func gather32V4(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
-func scatter32V1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
-func scatter32V2(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
-func scatter32V3(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
-func scatter32V4(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-
-//go:noescape
 func marginal32AVX2(y *float64, buck *float32, l1, l2 *uint8, lp int)
 
 //go:noescape
 func addRows32AVX2(dst, src, v *float32, rows, lp int)
 
+//go:noescape
+func gather32V0T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V0T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V1T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V1T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V1T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V1T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V2T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V2T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V2T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V2T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V3T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V3T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V3T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V3T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V4T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V4T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func gather32V4T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
+
+//go:noescape
+func scatter32V4T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
+
+// gather32Kernels[nv][tail] and scatter32Kernels[nv][tail] handle a row
+// chunk of nv vectors of 8 float32 and an optional tail of 4.
 var (
-	gather32Kernels  = [5]func(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int){nil, gather32V1, gather32V2, gather32V3, gather32V4}
-	scatter32Kernels = [5]func(buck, src *float32, raw *byte, offs *int32, n, ng, lp int){nil, scatter32V1, scatter32V2, scatter32V3, scatter32V4}
+	gather32Kernels  = [5][2]func(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int){{nil, gather32V0T1}, {gather32V1T0, gather32V1T1}, {gather32V2T0, gather32V2T1}, {gather32V3T0, gather32V3T1}, {gather32V4T0, gather32V4T1}}
+	scatter32Kernels = [5][2]func(buck, src *float32, raw *byte, offs *int32, n, ng, lp int){{nil, scatter32V0T1}, {scatter32V1T0, scatter32V1T1}, {scatter32V2T0, scatter32V2T1}, {scatter32V3T0, scatter32V3T1}, {scatter32V4T0, scatter32V4T1}}
 )
 
 // gather32Tile: for each marker q, the float32 sum over t = 0..ng-1 (in
 // that order, from zero) of tab_t[byte g+t of its row] is widened and
-// added to the float64 row dst[q]. lp is a multiple of 8.
+// added to the float64 row dst[q]. lp is a multiple of 4.
 func gather32Tile(dst []float64, tab []float32, raw []byte, offs []int32, g, ng, lp int) {
 	if !useAVX2 || len(offs) == 0 || ng == 0 || lp == 0 {
 		gather32TileGeneric(dst, tab, raw, offs, g, ng, lp)
@@ -282,8 +314,8 @@ func gather32Tile(dst []float64, tab []float32, raw []byte, offs []int32, g, ng,
 	}
 	check32(len(dst), len(tab), len(raw), offs, g, ng, lp)
 	for c0 := 0; c0 < lp; c0 += 32 {
-		nv := min(4, (lp-c0)/8)
-		gather32Kernels[nv](&dst[c0], &tab[c0], &raw[g], &offs[0], len(offs), ng, lp)
+		w := min(32, lp-c0)
+		gather32Kernels[w/8][w%8/4](&dst[c0], &tab[c0], &raw[g], &offs[0], len(offs), ng, lp)
 	}
 }
 
@@ -296,15 +328,12 @@ func scatter32Tile(buck, src []float32, raw []byte, offs []int32, g, ng, lp int)
 	}
 	check32(len(src), len(buck), len(raw), offs, g, ng, lp)
 	for c0 := 0; c0 < lp; c0 += 32 {
-		nv := min(4, (lp-c0)/8)
-		scatter32Kernels[nv](&buck[c0], &src[c0], &raw[g], &offs[0], len(offs), ng, lp)
+		w := min(32, lp-c0)
+		scatter32Kernels[w/8][w%8/4](&buck[c0], &src[c0], &raw[g], &offs[0], len(offs), ng, lp)
 	}
 }
 
 func check32(rowsLen, tabLen, rawLen int, offs []int32, g, ng, lp int) {
-	if lp%8 != 0 {
-		panic("randsvd: float32 kernel width not a multiple of 8")
-	}
 	checkKernel(rowsLen, tabLen, rawLen, offs, g, ng, lp)
 }
 
@@ -313,7 +342,7 @@ func marginal32(y []float64, buck []float32, l1, l2 *[64]uint8, lp int) {
 		marginal32Generic(y, buck, l1, l2, lp)
 		return
 	}
-	if len(y) < lp || len(buck) < 256*lp || lp%8 != 0 {
+	if len(y) < lp || len(buck) < 256*lp || lp%4 != 0 {
 		panic("randsvd: marginal32 shape out of range")
 	}
 	marginal32AVX2(&y[0], &buck[0], &l1[0], &l2[0], lp)
@@ -325,7 +354,7 @@ func addRows32(dst, src, v []float32, rows, lp int) {
 		addRows32Generic(dst, src, v, rows, lp)
 		return
 	}
-	if lp%8 != 0 || len(dst) < rows*lp || len(src) < rows*lp || len(v) < lp {
+	if lp%4 != 0 || len(dst) < rows*lp || len(src) < rows*lp || len(v) < lp {
 		panic("randsvd: addRows32 shape out of range")
 	}
 	addRows32AVX2(&dst[0], &src[0], &v[0], rows, lp)

@@ -83,7 +83,7 @@ adone:
 // func marginal32AVX2(y *float64, buck *float32, l1, l2 *uint8, lp int)
 // The float32 twin of marginalAVX2: r = (E1 + O1) + 2*(E2 + O2) summed in
 // float32 over the float32 bucket rows (stride lp), then y[k] += float64(r[k]).
-// lp is a multiple of 8.
+// lp is a multiple of 4: columns go 8 at a time, then a tail of 4.
 TEXT ·marginal32AVX2(SB), NOSPLIT, $0-40
 	MOVQ y+0(FP), DI
 	MOVQ buck+8(FP), SI
@@ -94,6 +94,9 @@ TEXT ·marginal32AVX2(SB), NOSPLIT, $0-40
 	XORQ DX, DX
 
 ncol:
+	LEAQ 32(DX), BX
+	CMPQ BX, R11
+	JGT ntail
 	VXORPS Y0, Y0, Y0
 	VXORPS Y1, Y1, Y1
 	VXORPS Y2, Y2, Y2
@@ -130,13 +133,50 @@ nrow:
 	VADDPD 32(BX), Y5, Y5
 	VMOVUPD Y5, 32(BX)
 	ADDQ $32, DX
+	JMP ncol
+
+ntail:
 	CMPQ DX, R11
-	JLT ncol
+	JGE ndone
+	VXORPS X0, X0, X0
+	VXORPS X1, X1, X1
+	VXORPS X2, X2, X2
+	VXORPS X3, X3, X3
+	LEAQ (SI)(DX*1), R10
+	XORQ CX, CX
+
+ntrow:
+	MOVBQZX (R8)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), X0, X0
+	MOVBQZX 1(R8)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), X1, X1
+	MOVBQZX (R9)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), X2, X2
+	MOVBQZX 1(R9)(CX*1), AX
+	IMULQ R11, AX
+	VADDPS (R10)(AX*1), X3, X3
+	ADDQ $2, CX
+	CMPQ CX, $64
+	JLT ntrow
+	VADDPS X1, X0, X0
+	VADDPS X3, X2, X2
+	VADDPS X2, X2, X2
+	VADDPS X2, X0, X0
+	LEAQ (DI)(DX*2), BX
+	VCVTPS2PD X0, Y4
+	VADDPD (BX), Y4, Y4
+	VMOVUPD Y4, (BX)
+
+ndone:
 	VZEROUPPER
 	RET
 
 // func addRows32AVX2(dst, src, v *float32, rows, lp int)
-// dst[r][k] = src[r][k] + v[k] for r < rows, k < lp (lp a multiple of 8).
+// dst[r][k] = src[r][k] + v[k] for r < rows, k < lp (lp a multiple of 4:
+// 8 at a time, then a tail of 4).
 TEXT ·addRows32AVX2(SB), NOSPLIT, $0-40
 	MOVQ dst+0(FP), DI
 	MOVQ src+8(FP), SI
@@ -151,12 +191,23 @@ brow:
 	XORQ DX, DX
 
 bcol:
+	LEAQ 32(DX), BX
+	CMPQ BX, R11
+	JGT btail
 	VMOVUPS (SI)(DX*1), Y0
 	VADDPS (R8)(DX*1), Y0, Y0
 	VMOVUPS Y0, (DI)(DX*1)
 	ADDQ $32, DX
+	JMP bcol
+
+btail:
 	CMPQ DX, R11
-	JLT bcol
+	JGE bnext
+	VMOVUPS (SI)(DX*1), X0
+	VADDPS (R8)(DX*1), X0, X0
+	VMOVUPS X0, (DI)(DX*1)
+
+bnext:
 	ADDQ R11, DI
 	ADDQ R11, SI
 	DECQ CX

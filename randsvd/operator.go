@@ -379,16 +379,10 @@ func (op *Operator) flushBlock(ws *workspace, process func(*workspace, []byte, [
 // the previous pass's when the shape matches (so passes do not allocate).
 func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspace {
 	fast = fast && !op.float
-	lp := (l + 3) &^ 3
-	if fast {
-		lp = (l + 7) &^ 7 // whole float32 vectors
-	}
+	lp := (l + 3) &^ 3 // whole float64 vectors (and half float32 ones)
 	ws := op.ws
 	if ws == nil || ws.l != l {
-		// Buffers sized for the wider (fast) layout, so that switching
-		// between fast and exact passes reuses them.
-		lpMax := (l + 7) &^ 7
-		ws = &workspace{l: l, x: make([]float64, op.n*lpMax), tot: make([]float64, lpMax), btot: make([]float64, lpMax)}
+		ws = &workspace{l: l, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
 		op.ws = ws
 	}
 	if ws.lp != lp || ws.fast != fast || len(ws.x) != op.n*lp {
