@@ -13,6 +13,18 @@
 // scatterTileV<nv>(buck, src, raw, offs, n, ng, lp): for each marker q the
 // nv vectors of src row q are loaded once and added into bucket v_t of each
 // of the ng groups, markers in increasing order as scatterTileGeneric.
+//
+// gather32V<nv>T<t> and scatter32V<nv>T<t> are the float32 kernels of fast
+// passes (fast.go) for a chunk of nv vectors of 8 float32 and t tails of 4
+// (gather32TileGeneric, scatter32TileGeneric).
+//
+// sumRowsV<nv>(dst, x, idx, n, lp): dst = x[idx[0]] + x[idx[1]] + ... in
+// list order, from zero (sumRowsGeneric). addRowV<nv>(y, v, idx, n, lp):
+// y[idx[r]] += v for each r (addRowGeneric). n is at least 1.
+//
+// fmaRowsV<nv>(dst, rows, w, count, wstride, lp): dst = fma(w[c*wstride],
+// rows[c], dst) for c = 0..count-1 in order (fmaRowsGeneric), the dense
+// products of float (dosage) stores.
 package main
 
 import (
