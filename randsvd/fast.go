@@ -24,8 +24,8 @@ func tileGroups32(lp int) int {
 
 // buildTable32 is buildTable in float32: tab (256 rows of lp) gets
 // sum_s val(code_s(v)) x_{4g+s} for every byte value v, summed in float32
-// in the same order by addRows32.
-func buildTable32(tab, x []float32, g, n, lp int) { buildTab(tab, x, g, n, lp, addRows32) }
+// in the same order by addRows32 (x2: scratch of lp values).
+func buildTable32(tab, x, x2 []float32, g, n, lp int) { buildTab(tab, x, x2, g, n, lp, addRows32) }
 
 // addRows32Generic sets dst[r] = src[r] + v for r < rows.
 func addRows32Generic(dst, src, v []float32, rows, lp int) {
@@ -112,7 +112,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 		for g := start; g < end; g += ng {
 			nt := min(ng, end-g)
 			for u := 0; u < nt; u++ {
-				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.x32, g+u, n, lp)
+				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.x32, ws.scratch32[t*lp:(t+1)*lp], g+u, n, lp)
 			}
 			gather32Tile(part, tab, raw, offs, g, nt, lp)
 		}
@@ -123,7 +123,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 	for g := start; g < end; g += ng {
 		nt := min(ng, end-g)
 		for u := 0; u < nt; u++ {
-			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, g+u, n, lp)
+			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, ws.scratch[t*lp:(t+1)*lp], g+u, n, lp)
 		}
 		gatherTile(part, tab, raw, offs, g, nt, lp)
 	}

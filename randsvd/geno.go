@@ -61,19 +61,16 @@ var marginalIdx = func() (m [4][2][64]uint8) {
 }()
 
 // buildTable fills tab (256 rows of lp) with sum_s val(code_s(v)) x_{4g+s}
-// for every byte value v; rows of samples beyond n count as zero.
-func buildTable(tab, x []float64, g, n, lp int) { buildTab(tab, x, g, n, lp, addRows) }
+// for every byte value v; rows of samples beyond n count as zero. x2 is
+// scratch of lp values.
+func buildTable(tab, x, x2 []float64, g, n, lp int) { buildTab(tab, x, x2, g, n, lp, addRows) }
 
 // buildTab is buildTable for float64 or float32 rows, with add the row
-// kernel of that precision (dst[r] = src[r] + v).
-func buildTab[F float32 | float64](tab, x []F, g, n, lp int, add func(dst, src, v []F, rows, lp int)) {
-	var stack [128]F
-	x2 := stack[:0]
-	if lp <= len(stack) {
-		x2 = stack[:lp]
-	} else {
-		x2 = make([]F, lp)
-	}
+// kernel of that precision (dst[r] = src[r] + v). The scratch row comes
+// from the caller: a slice handed to a function value escapes, and a local
+// one would be allocated at every call.
+func buildTab[F float32 | float64](tab, x, x2 []F, g, n, lp int, add func(dst, src, v []F, rows, lp int)) {
+	x2 = x2[:lp]
 	clear(tab[:4*lp])
 	i0 := 4 * g
 	if i0 < n {
@@ -169,8 +166,9 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	for len(ws.miss) < nb {
 		ws.miss = append(ws.miss, nil)
 	}
-	op.forEach(ws, nseg, (*Operator).firstJob)
 	ws.scratch = grow(ws.scratch, op.threads*lp)
+	ws.scratch32 = grow32(ws.scratch32, op.threads*lp)
+	op.forEach(ws, nseg, (*Operator).firstJob)
 	if cap(ws.missCut) < nb*(nseg+1) {
 		ws.missCut = make([]int32, nb*(nseg+1))
 	}

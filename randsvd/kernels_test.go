@@ -130,7 +130,7 @@ func TestBuildTable(t *testing.T) {
 			x[i] = r.NormFloat64()
 		}
 		tab := make([]float64, 256*lp)
-		buildTable(tab, x, 1, n, lp)
+		buildTable(tab, x, make([]float64, lp), 1, n, lp)
 		val := [4]float64{0, 1, 2, 0}
 		for v := 0; v < 256; v++ {
 			for k := 0; k < lp; k++ {

@@ -295,35 +295,36 @@ func (op *Operator) Chunks() int { return len(op.chunks) }
 // are stored with a padded stride lp (a multiple of 4) so kernels can work
 // in whole vectors.
 type workspace struct {
-	l, lp   int
-	fast    bool      // float32 tables and buckets (a fast pass, fast.go)
-	x32     []float32 // fast: rows of x in float32, stride lp
-	wpp32   []float32 // fast: W'' in float32
-	tabs32  [][]float32
-	x       []float64 // store-sample rows of X (zero for dropped samples), stride lp
-	y       []float64 // store-sample rows of Y, stride lp
-	tot     []float64 // column sums of x
-	btot    []float64 // constant part of Y: -sum_j mu_j W''_j
-	w       []float64 // b x lp: W = Z_b X
-	wpp     []float64 // b x lp: W''_j = W_j / sd_j
-	mwpp    []float64 // b x lp: mu_j W''_j
-	scratch []float64 // threads x lp
-	part    []float64 // segments x b x lp partial first products
-	miss    [][]int32 // per block marker: samples with a missing call
-	missCut []int32   // per block marker: where miss crosses each segment start (segments+1)
-	z       []float64 // float stores: b x N standardized block
-	ss      []float64 // float stores: the chunk's per-marker sums of squares (reused)
-	trace   []float64 // float stores: per-marker sum of squares
-	tabs    [][]float64
-	block   []byte   // kept rows of consecutive chunks, gathered into one block
-	bsels   []sel    // their selections (off = row within block)
-	csels   []sel    // selections of the chunk being processed
-	raw     []byte   // the block being processed (read by the jobs)
-	sels    []sel    // its selections
-	pool    chan int // the pass's helper goroutines (nil: run in the caller)
-	run     jobRun   // the job they are running
-	offs    []int32  // row offsets of the block being processed
-	err     error    // first error of a MarkerProducts callback
+	l, lp     int
+	fast      bool      // float32 tables and buckets (a fast pass, fast.go)
+	x32       []float32 // fast: rows of x in float32, stride lp
+	wpp32     []float32 // fast: W'' in float32
+	tabs32    [][]float32
+	x         []float64 // store-sample rows of X (zero for dropped samples), stride lp
+	y         []float64 // store-sample rows of Y, stride lp
+	tot       []float64 // column sums of x
+	btot      []float64 // constant part of Y: -sum_j mu_j W''_j
+	w         []float64 // b x lp: W = Z_b X
+	wpp       []float64 // b x lp: W''_j = W_j / sd_j
+	mwpp      []float64 // b x lp: mu_j W''_j
+	scratch   []float64 // threads x lp
+	scratch32 []float32 // threads x lp
+	part      []float64 // segments x b x lp partial first products
+	miss      [][]int32 // per block marker: samples with a missing call
+	missCut   []int32   // per block marker: where miss crosses each segment start (segments+1)
+	z         []float64 // float stores: b x N standardized block
+	ss        []float64 // float stores: the chunk's per-marker sums of squares (reused)
+	trace     []float64 // float stores: per-marker sum of squares
+	tabs      [][]float64
+	block     []byte   // kept rows of consecutive chunks, gathered into one block
+	bsels     []sel    // their selections (off = row within block)
+	csels     []sel    // selections of the chunk being processed
+	raw       []byte   // the block being processed (read by the jobs)
+	sels      []sel    // its selections
+	pool      chan int // the pass's helper goroutines (nil: run in the caller)
+	run       jobRun   // the job they are running
+	offs      []int32  // row offsets of the block being processed
+	err       error    // first error of a MarkerProducts callback
 }
 
 // blockTarget is the number of markers the 2-bit kernels want per block:
