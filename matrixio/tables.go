@@ -127,8 +127,9 @@ func WriteSpectrum(path string, rows []SpectrumRow) error {
 // one column per PC.
 type LoadingsWriter struct {
 	a  *AtomicFile
+	fw *bufio.Writer // the compressed stream (flate emits pieces of ~250 bytes)
 	gz *gzip.Writer
-	bw *bufio.Writer
+	bw *bufio.Writer // the text
 }
 
 // LoadingsHeaderStart is the fixed start of the loadings header.
@@ -140,8 +141,9 @@ func CreateLoadings(path string, k int) (*LoadingsWriter, error) {
 	if err != nil {
 		return nil, err
 	}
-	gz, _ := gzip.NewWriterLevel(a, gzip.BestSpeed)
-	lw := &LoadingsWriter{a: a, gz: gz, bw: bufio.NewWriterSize(gz, 1<<16)}
+	fw := bufio.NewWriterSize(a, 1<<16)
+	gz, _ := gzip.NewWriterLevel(fw, gzip.BestSpeed)
+	lw := &LoadingsWriter{a: a, fw: fw, gz: gz, bw: bufio.NewWriterSize(gz, 1<<16)}
 	lw.bw.WriteString(LoadingsHeaderStart)
 	for j := 0; j < k; j++ {
 		fmt.Fprintf(lw.bw, "\tPC%d", j+1)
@@ -183,6 +185,10 @@ func (lw *LoadingsWriter) Close() error {
 		return err
 	}
 	if err := lw.gz.Close(); err != nil {
+		lw.a.Discard()
+		return err
+	}
+	if err := lw.fw.Flush(); err != nil {
 		lw.a.Discard()
 		return err
 	}

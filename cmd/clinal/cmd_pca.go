@@ -424,10 +424,55 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 	}
 	kept := op.KeptMarkers()
 	center, inv := op.Standardization()
+	// Formatting and compressing the rows is serial work: a writer
+	// goroutine does it while the operator computes the next block. Rows
+	// go over in batches (at most four in flight, so memory stays bounded).
+	k := len(res.Eigenvalues)
+	const batchRows = 1024
+	type batch struct {
+		ords []int
+		vals []float64
+	}
+	batches := make(chan *batch, 4)
+	free := make(chan *batch, 5)
+	for range 5 {
+		free <- &batch{ords: make([]int, 0, batchRows), vals: make([]float64, 0, batchRows*k)}
+	}
+	werr := make(chan error, 1)
+	go func() {
+		var err error
+		for b := range batches {
+			for r, ord := range b.ords {
+				if err == nil {
+					j := kept[ord]
+					err = lw.Write(st.Marker(j), center[ord]/2, 1/inv[ord], b.vals[r*k:(r+1)*k])
+				}
+			}
+			free <- b
+		}
+		werr <- err
+	}()
+	cur := <-free
+	send := func() {
+		batches <- cur
+		cur = <-free
+		cur.ords, cur.vals = cur.ords[:0], cur.vals[:0]
+	}
 	err = randsvd.Loadings(ctx, op, res, func(ord int, v []float64) error {
-		j := kept[ord]
-		return lw.Write(st.Marker(j), center[ord]/2, 1/inv[ord], v)
+		cur.ords = append(cur.ords, ord)
+		cur.vals = append(cur.vals, v...)
+		if len(cur.ords) == batchRows {
+			send()
+		}
+		return nil
 	})
+	if err == nil && len(cur.ords) > 0 {
+		send()
+	}
+	close(batches)
+	if e := <-werr; err == nil {
+		err = e
+	}
 	if err != nil {
 		lw.Abort()
 		return err
