@@ -266,6 +266,10 @@ func (op *Operator) KeptMarkers() []int {
 	return out
 }
 
+// KeptMarker returns the store index of kept marker ord (KeptMarkers
+// without the copy).
+func (op *Operator) KeptMarker(ord int) int { return int(op.markers[ord]) }
+
 // sels returns the selections of chunk c (offset within the chunk and
 // kept-marker ordinal of each kept marker), built into buf.
 func (op *Operator) sels(c int, buf []sel) []sel {

@@ -201,7 +201,7 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		// hold almost no pointers (the marker table is one string and flat
 		// arrays), so collections are cheap: a tight collector target keeps
 		// the peak near the live size.
-		debug.SetGCPercent(25)
+		debug.SetGCPercent(10)
 	}
 	ph.start("open")
 	st, err := matrixio.Open(storePath)
@@ -422,7 +422,6 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 	if err != nil {
 		return err
 	}
-	kept := op.KeptMarkers()
 	center, inv := op.Standardization()
 	// Formatting and compressing the rows is serial work: a writer
 	// goroutine does it while the operator computes the next block. Rows
@@ -444,8 +443,7 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 		for b := range batches {
 			for r, ord := range b.ords {
 				if err == nil {
-					j := kept[ord]
-					err = lw.Write(st.Marker(j), center[ord]/2, 1/inv[ord], b.vals[r*k:(r+1)*k])
+					err = lw.Write(st.Marker(op.KeptMarker(ord)), center[ord]/2, 1/inv[ord], b.vals[r*k:(r+1)*k])
 				}
 			}
 			free <- b
