@@ -67,20 +67,9 @@ func gather32TileGeneric(dst []float64, tab []float32, raw []byte, offs []int32,
 	}
 }
 
-// scatter32TileGeneric: for each marker q in increasing order,
-// buck_t[byte g+t of its row] += src[q] for t = 0..ng-1, in float32.
+// scatter32TileGeneric is scatterTileGeneric on float32 rows.
 func scatter32TileGeneric(buck, src []float32, raw []byte, offs []int32, g, ng, lp int) {
-	tb := 256 * lp
-	for q, o := range offs {
-		s := src[q*lp : q*lp+lp]
-		b := raw[int(o)+g : int(o)+g+ng]
-		for t, v := range b {
-			d := buck[t*tb+int(v)*lp : t*tb+int(v)*lp+lp]
-			for k := range d {
-				d[k] += s[k]
-			}
-		}
-	}
+	scatterTileGeneric(buck, src, raw, offs, g, ng, lp)
 }
 
 // marginal32Generic is marginalGeneric over float32 buckets: the sum

@@ -286,8 +286,9 @@ func gatherTileGeneric(dst, tab []float64, raw []byte, offs []int32, g, ng, lp i
 
 // scatterTileGeneric: for each marker q in increasing order,
 // buck_t[byte g+t of its row] += src[q] for t = 0..ng-1,
-// buck_t = buck[t*256*lp:].
-func scatterTileGeneric(buck, src []float64, raw []byte, offs []int32, g, ng, lp int) {
+// buck_t = buck[t*256*lp:], in the precision of the rows (float64 for exact
+// passes, float32 for fast ones).
+func scatterTileGeneric[F float32 | float64](buck, src []F, raw []byte, offs []int32, g, ng, lp int) {
 	tb := 256 * lp
 	for q, o := range offs {
 		s := src[q*lp : q*lp+lp]
