@@ -15,12 +15,19 @@
 // # Precision policy
 //
 // Hard-call chunks are never expanded to floating-point blocks: each 2-bit
-// code selects one of the marker's four standardized values (in float64),
-// and both products of a pass, W = Z_b X and Y += Z_b^T W, are computed in
-// float64 from those values. The only rounding is float64 rounding of sums,
-// so results agree with a dense float64 computation to about 1e-13 relative.
-// Float (dosage) chunks are decoded from float32, which is their stored
-// precision, and then handled in float64 the same way.
+// code selects one of the marker's four standardized values, and both
+// products of a pass, W = Z_b X and Y += Z_b^T W, are sums of table rows
+// (geno.go). An exact pass (Apply) does all of it in float64: the only
+// rounding is float64 rounding of sums, so results agree with a dense
+// float64 computation to about 1e-13 relative. A fast pass (ApplyFast,
+// fast.go) keeps the group tables, bucket sums and second-product weights
+// in float32 and every long accumulation in float64 (a marker's float32
+// sum covers at most 64 samples before it joins a float64 partial): K X to
+// about 2e-7 relative. Solve uses fast passes only to find the subspace
+// and ends with an exact pass and Rayleigh-Ritz, so eigenvalues,
+// residuals, scores and loadings are float64 results. Float (dosage)
+// chunks are decoded from float32, their stored precision, and multiplied
+// in float64 with fused multiply-adds (dense.go).
 //
 // # Determinism
 //
