@@ -217,15 +217,18 @@ func TestClusterSlurm(t *testing.T) {
 	}
 	gotA := clOutputs(t, prefixA)
 	checkSame("second run", prefixB, gotA)
-	// Against clinal pca: eigenvalues to 1e-12 relative, scores and
-	// loadings to 1e-10 (the single-process command is the reference).
+	// Against clinal pca (the single-process command is the reference):
+	// both iterate with fast passes, whose float32 bucket sums a shard split
+	// changes, and finish exactly, so eigenvalues agree to 1e-10 relative
+	// and scores and loadings to 1e-6, the solver's tolerance (as in
+	// TestClusterLocalMatchesPCA, which also checks --exact-passes to 1e-10).
 	ws, gs := clTable(t, want[".spectrum.tsv"], 1), clTable(t, gotA[".spectrum.tsv"], 1)
 	if len(ws) != 3 || len(gs) != 3 {
 		t.Fatalf("spectrum rows: pca %d, cluster %d", len(ws), len(gs))
 	}
 	for j := range ws {
-		if rel := math.Abs(gs[j][0]-ws[j][0]) / ws[j][0]; !(rel <= 1e-12) {
-			t.Errorf("eigenvalue %d: cluster %.17g, pca %.17g (relative %.3g > 1e-12)", j+1, gs[j][0], ws[j][0], rel)
+		if rel := math.Abs(gs[j][0]-ws[j][0]) / ws[j][0]; !(rel <= 1e-10) {
+			t.Errorf("eigenvalue %d: cluster %.17g, pca %.17g (relative %.3g > 1e-10)", j+1, gs[j][0], ws[j][0], rel)
 		}
 	}
 	for _, f := range []struct {
@@ -242,8 +245,8 @@ func TestClusterSlurm(t *testing.T) {
 				worst = math.Max(worst, math.Abs(a[i][j]-b[i][j]))
 			}
 		}
-		if !(worst <= 1e-10) {
-			t.Errorf("%s: cluster vs pca differ by up to %.3g, want <= 1e-10", f.name, worst)
+		if !(worst <= 1e-6) {
+			t.Errorf("%s: cluster vs pca differ by up to %.3g, want <= 1e-6", f.name, worst)
 		}
 	}
 
