@@ -8,8 +8,6 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
-
-	"github.com/clinal/clinal/matrixio"
 )
 
 // TestFloatOperatorMatchesDense checks a pass over a float (dosage) store,
@@ -22,32 +20,12 @@ import (
 func TestFloatOperatorMatchesDense(t *testing.T) {
 	const n, m, l = 61, 90, 6
 	d := prjSimulate(prjConfig{n: n, m: m, pops: 2, fst: 0.05, miss: 0.05, seed: 4})
-	path := filepath.Join(t.TempDir(), "f.clinal")
-	w, err := matrixio.Create(path, d.samples, matrixio.WriterOptions{Codec: matrixio.CodecFloat32, ChunkMarkers: 16})
-	if err != nil {
-		t.Fatal(err)
-	}
 	r := rand.New(rand.NewPCG(8, 8))
-	vals := make([][]float32, m)
-	for j, g := range d.geno {
-		vals[j] = make([]float32, n)
-		for i, c := range g {
-			vals[j][i] = float32(c) + float32(r.Float64()*0.4-0.2)
-			if c == matrixio.Missing {
-				vals[j][i] = float32(math.NaN())
-			}
-		}
-		if err := w.AddFloats(d.markers[j], vals[j]); err != nil {
-			t.Fatal(err)
-		}
+	offsets := make([]float32, n)
+	for i := range offsets {
+		offsets[i] = float32(r.Float64()*0.4 - 0.2)
 	}
-	if err := w.Close(); err != nil {
-		t.Fatal(err)
-	}
-	st, err := matrixio.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
+	st, vals := prjWriteFloats(t, filepath.Join(t.TempDir(), "f.clinal"), d, func(i int) float32 { return offsets[i] })
 	defer st.Close()
 	keep := make([]bool, n)
 	var kept []int

@@ -312,7 +312,7 @@ func gather32Tile(dst []float64, tab []float32, raw []byte, offs []int32, g, ng,
 		gather32TileGeneric(dst, tab, raw, offs, g, ng, lp)
 		return
 	}
-	check32(len(dst), len(tab), len(raw), offs, g, ng, lp)
+	checkKernel(len(dst), len(tab), len(raw), offs, g, ng, lp)
 	for c0 := 0; c0 < lp; c0 += 32 {
 		w := min(32, lp-c0)
 		gather32Kernels[w/8][w%8/4](&dst[c0], &tab[c0], &raw[g], &offs[0], len(offs), ng, lp)
@@ -326,15 +326,11 @@ func scatter32Tile(buck, src []float32, raw []byte, offs []int32, g, ng, lp int)
 		scatter32TileGeneric(buck, src, raw, offs, g, ng, lp)
 		return
 	}
-	check32(len(src), len(buck), len(raw), offs, g, ng, lp)
+	checkKernel(len(src), len(buck), len(raw), offs, g, ng, lp)
 	for c0 := 0; c0 < lp; c0 += 32 {
 		w := min(32, lp-c0)
 		scatter32Kernels[w/8][w%8/4](&buck[c0], &src[c0], &raw[g], &offs[0], len(offs), ng, lp)
 	}
-}
-
-func check32(rowsLen, tabLen, rawLen int, offs []int32, g, ng, lp int) {
-	checkKernel(rowsLen, tabLen, rawLen, offs, g, ng, lp)
 }
 
 func marginal32(y []float64, buck []float32, l1, l2 *[64]uint8, lp int) {

@@ -273,6 +273,9 @@ func (op *Operator) KeptMarkers() []int {
 	return out
 }
 
+// NumKeptMarkers returns len(KeptMarkers()) without the copy.
+func (op *Operator) NumKeptMarkers() int { return len(op.markers) }
+
 // KeptMarker returns the store index of kept marker ord (KeptMarkers
 // without the copy).
 func (op *Operator) KeptMarker(ord int) int { return int(op.markers[ord]) }
@@ -394,30 +397,25 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 	lp := (l + 3) &^ 3 // whole float64 vectors (and half float32 ones)
 	ws := op.ws
 	if ws == nil || ws.l != l {
-		ws = &workspace{l: l, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
+		// One row layout for exact and fast passes: rows of dropped samples
+		// and padding columns stay zero.
+		ws = &workspace{l: l, lp: lp, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
 		op.ws = ws
 	}
-	if ws.lp != lp || ws.fast != fast || len(ws.x) != op.n*lp {
-		// New row layout: rows of dropped samples and padding columns
-		// must read as zero.
-		ws.lp, ws.fast = lp, fast
-		ws.x = ws.x[:op.n*lp]
-		clear(ws.x)
-		if fast && ws.x32 == nil {
-			ws.x32 = make([]float32, op.n*lp)
-			ws.tabs32 = make([][]float32, op.threads)
-			for t := range ws.tabs32 {
-				ws.tabs32[t] = make([]float32, tileGroups32(lp)*256*lp)
-			}
-		}
-		if !fast && ws.tabs == nil {
-			ws.tabs = make([][]float64, op.threads)
-			for t := range ws.tabs {
-				ws.tabs[t] = make([]float64, tileGroups(lp)*256*lp)
-			}
+	ws.fast = fast
+	if fast && ws.x32 == nil {
+		ws.x32 = make([]float32, op.n*lp)
+		ws.tabs32 = make([][]float32, op.threads)
+		for t := range ws.tabs32 {
+			ws.tabs32[t] = make([]float32, tileGroups32(lp)*256*lp)
 		}
 	}
-	ws.tot, ws.btot = ws.tot[:lp], ws.btot[:lp]
+	if !fast && ws.tabs == nil {
+		ws.tabs = make([][]float64, op.threads)
+		for t := range ws.tabs {
+			ws.tabs[t] = make([]float64, tileGroups(lp)*256*lp)
+		}
+	}
 	clear(ws.tot)
 	clear(ws.btot)
 	ws.trace = ws.trace[:0]

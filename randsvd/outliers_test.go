@@ -33,32 +33,10 @@ func TestCountKept(t *testing.T) {
 	dir := t.TempDir()
 	d := prjSimulate(prjConfig{n: 77, m: 150, pops: 2, fst: 0.05, miss: 0.05, seed: 2})
 	st := prjWrite(t, filepath.Join(dir, "g.clinal"), d, 16, nil, nil)
-	fp := filepath.Join(dir, "f.clinal")
-	w, err := matrixio.Create(fp, d.samples, matrixio.WriterOptions{Codec: matrixio.CodecFloat32, ChunkMarkers: 16})
-	if err != nil {
-		t.Fatal(err)
-	}
-	vals := make([][]float32, len(d.geno))
-	for j, g := range d.geno {
-		vals[j] = make([]float32, len(g))
-		for i, c := range g {
-			// Dosage-like values: the code plus a sample-dependent offset.
-			vals[j][i] = float32(c) + float32(i%5)*0.1 - 0.2
-			if c == matrixio.Missing {
-				vals[j][i] = float32(math.NaN())
-			}
-		}
-		if err := w.AddFloats(d.markers[j], vals[j]); err != nil {
-			t.Fatal(err)
-		}
-	}
-	if err := w.Close(); err != nil {
-		t.Fatal(err)
-	}
-	fst, err := matrixio.Open(fp)
-	if err != nil {
-		t.Fatal(err)
-	}
+	fst, vals := prjWriteFloats(t, filepath.Join(dir, "f.clinal"), d, func(i int) float32 {
+		// Dosage-like values: the code plus a sample-dependent offset.
+		return float32(i%5)*0.1 - 0.2
+	})
 	defer fst.Close()
 	masks := map[string]func(i int) bool{
 		"all":   func(int) bool { return true },
@@ -309,4 +287,36 @@ func TestRemoveOutliersOptions(t *testing.T) {
 	if _, _, _, _, err := RemoveOutliers(ctx, st, popt, OutlierOptions{Rounds: -1}); err == nil || !matrixio.IsBadInput(err) {
 		t.Errorf("rounds -1: error %v, want bad input", err)
 	}
+}
+
+// prjWriteFloats writes d as a float (dosage) store of 16-marker chunks at
+// path: each call plus offset(i) for sample i, NaN for a missing call. It
+// returns the open store and the values written.
+func prjWriteFloats(t *testing.T, path string, d prjData, offset func(i int) float32) (*matrixio.Store, [][]float32) {
+	t.Helper()
+	w, err := matrixio.Create(path, d.samples, matrixio.WriterOptions{Codec: matrixio.CodecFloat32, ChunkMarkers: 16})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vals := make([][]float32, len(d.geno))
+	for j, g := range d.geno {
+		vals[j] = make([]float32, len(g))
+		for i, c := range g {
+			vals[j][i] = float32(c) + offset(i)
+			if c == matrixio.Missing {
+				vals[j][i] = float32(math.NaN())
+			}
+		}
+		if err := w.AddFloats(d.markers[j], vals[j]); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	st, err := matrixio.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return st, vals
 }

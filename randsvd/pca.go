@@ -112,10 +112,10 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	blockM := max(target, int64(st.ChunkMarkers()))
 	nseg := int64(len(segments(n)) - 1)
 	// Fast passes (fast.go) use float32 tables and float32 copies of X
-	// and of the block's W''; the larger of the two kinds of table counts.
-	lp32 := lp
-	tabs := max(int64(tileGroups(int(lp)))*256*lp*8, int64(tileGroups32(int(lp32)))*256*lp32*4)
-	p.KernelBytes = nseg*blockM*max(lp, lp32)*8 + int64(max(1, threads))*tabs + int64(n)*lp32*4 + blockM*lp32*4
+	// and of the block's W''; a run that mixes both kinds of pass keeps
+	// both kinds of table.
+	tabs := int64(tileGroups(int(lp)))*256*lp*8 + int64(tileGroups32(int(lp)))*256*lp*4
+	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + blockM*lp*4
 	if st.Codec() == matrixio.CodecGeno2 && int64(st.ChunkMarkers()) < target {
 		p.KernelBytes += target * rb
 	}

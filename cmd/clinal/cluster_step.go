@@ -100,17 +100,17 @@ func (w *shardWorker) compute(ctx context.Context, p, s int) (bool, error) {
 	if err != nil {
 		return false, fmt.Errorf("cluster step shard %d: %w", s, err)
 	}
-	if op.Dim() != n || op.Markers() != m.MarkersUsed || len(op.KeptMarkers()) != sh.MarkersUsed {
+	if op.Dim() != n || op.Markers() != m.MarkersUsed || op.NumKeptMarkers() != sh.MarkersUsed {
 		return false, matrixio.BadInput("cluster step shard %d: operator of %d samples, %d markers (%d in the shard); the manifest planned %d, %d (%d)",
-			s, op.Dim(), op.Markers(), len(op.KeptMarkers()), n, m.MarkersUsed, sh.MarkersUsed)
+			s, op.Dim(), op.Markers(), op.NumKeptMarkers(), n, m.MarkersUsed, sh.MarkersUsed)
 	}
-	if len(op.KeptMarkers()) == 0 {
+	if op.NumKeptMarkers() == 0 {
 		clear(y) // a shard whose markers were all filtered adds nothing
 	} else if err := applyPass(ctx, op, fast, x, y, l); err != nil {
 		return false, fmt.Errorf("cluster step shard %d: %w", s, err)
 	}
 	tr := op.Trace()
-	if len(op.KeptMarkers()) == 0 {
+	if op.NumKeptMarkers() == 0 {
 		tr = 0
 	}
 	want.Markers, want.Trace, want.Seconds = sh.MarkersUsed, tr, time.Since(t0).Seconds()

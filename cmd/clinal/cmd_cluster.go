@@ -235,7 +235,7 @@ func timeOneChunk(ctx context.Context, w *shardWorker) (time.Duration, bool) {
 		for c := sh.FirstChunk; c < sh.EndChunk; c++ {
 			op, err := randsvd.NewOperator(w.st, randsvd.OperatorOptions{SampleKept: w.sel.SampleKept, MarkerKept: w.sel.MarkerKept,
 				Counts: w.sel.Counts, Scaling: randsvd.Scaling(m.PCA.Scaling), Threads: w.threads, Chunks: []int{c}})
-			if err != nil || len(op.KeptMarkers()) == 0 {
+			if err != nil || op.NumKeptMarkers() == 0 {
 				continue
 			}
 			n, l := op.Dim(), m.BlockSize
