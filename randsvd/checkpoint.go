@@ -19,8 +19,10 @@ import (
 // version, key (length-prefixed string identifying inputs and parameters),
 // u64 pass, l, n, k-history rows and width, then U, AU, Theta, the history,
 // TraceSqEst and PrevCaptured as float64, (version 2) u64 fast flag and
-// fast passes, and a CRC32C of everything before it. Version 1 files
-// (before fast passes) read as exact states.
+// fast passes, (version 3) u64 refinement flag and, when it is 1, RefineIn
+// (n x l) and Rot (l x l), and a CRC32C of everything before it. Version 1
+// files (before fast passes) read as exact states, version 2 files as
+// states without a refinement basis.
 
 var ckptMagic = [8]byte{'C', 'L', 'N', 'L', 'C', 'K', 'P', 'T'}
 
@@ -36,7 +38,7 @@ func WriteCheckpoint(path, key string, st *State) error {
 		bw := bufio.NewWriter(io.MultiWriter(w, h))
 		bw.Write(ckptMagic[:])
 		put := func(v uint64) { binary.Write(bw, binary.LittleEndian, v) }
-		put(2)
+		put(3)
 		put(uint64(len(key)))
 		bw.WriteString(key)
 		hw := 0
@@ -64,6 +66,16 @@ func WriteCheckpoint(path, key string, st *State) error {
 		}
 		put(fast)
 		put(uint64(st.FastPasses))
+		if st.RefineIn != nil {
+			if len(st.RefineIn) != st.N*st.L || len(st.Rot) != st.L*st.L {
+				return fmt.Errorf("checkpoint: refinement basis of %d and rotation of %d values for %d x %d", len(st.RefineIn), len(st.Rot), st.N, st.L)
+			}
+			put(1)
+			f(st.RefineIn)
+			f(st.Rot)
+		} else {
+			put(0)
+		}
 		if err := bw.Flush(); err != nil {
 			return err
 		}
@@ -101,7 +113,7 @@ func ReadCheckpoint(path, key string) (*State, error) {
 		return v
 	}
 	ver := get()
-	if ver != 1 && ver != 2 {
+	if ver < 1 || ver > 3 {
 		return nil, bad("unknown version")
 	}
 	kl := get()
@@ -113,11 +125,22 @@ func ReadCheckpoint(path, key string) (*State, error) {
 	}
 	r = r[kl:]
 	pass, l, n, hr, hw := get(), get(), get(), get(), get()
+	if n == 0 || l == 0 || n > 1<<32 || l > 1<<16 || hr > 1<<20 || hw > 1<<16 {
+		return nil, bad("sizes do not match the file")
+	}
 	need := (2*n*l + l + hr*hw + 2) * 8
-	if ver == 2 {
+	if ver >= 2 {
 		need += 2 * 8 // fast flag and fast passes
 	}
-	if n == 0 || l == 0 || n > 1<<32 || l > 1<<16 || hr > 1<<20 || hw > 1<<16 || uint64(len(r)) != need {
+	refine := false
+	if ver >= 3 {
+		need += 8 // refinement flag
+		refine = uint64(len(r)) == need+(n*l+l*l)*8
+		if refine {
+			need += (n*l + l*l) * 8
+		}
+	}
+	if uint64(len(r)) != need {
 		return nil, bad("sizes do not match the file")
 	}
 	f := func(m uint64) []float64 {
@@ -136,12 +159,25 @@ func ReadCheckpoint(path, key string) (*State, error) {
 	}
 	tail := f(2)
 	st.TraceSqEst, st.PrevCaptured = tail[0], tail[1]
-	if ver == 2 {
+	if ver >= 2 {
 		fast, fp := get(), get()
 		if fast > 1 || fp > pass {
 			return nil, bad("bad fast-pass fields")
 		}
 		st.Fast, st.FastPasses = fast == 1, int(fp)
+	}
+	if ver >= 3 {
+		want := uint64(0)
+		if refine {
+			want = 1
+		}
+		if get() != want {
+			return nil, bad("bad refinement field")
+		}
+		if refine {
+			st.RefineIn = f(n * l)
+			st.Rot = f(l * l)
+		}
 	}
 	return st, nil
 }

@@ -5,6 +5,8 @@ import (
 	"errors"
 	"path/filepath"
 	"testing"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // TestResumeGivesSameResult stops a solve after 3 passes (as a kill would:
@@ -64,5 +66,49 @@ func TestResumeGivesSameResult(t *testing.T) {
 		if a[i] != b[i] {
 			t.Fatalf("vector entry %d differs after resume", i)
 		}
+	}
+}
+
+// TestCheckpointRefinementBasis writes the state of every pass of a solve
+// that ends on a refinement pass and reads the last one back: the basis
+// and rotation Loadings needs must survive bit for bit (a resumed run
+// computes the same loadings from them; determinism, no outside source).
+func TestCheckpointRefinementBasis(t *testing.T) {
+	st, _ := testCohort(t, 150, 800, 3, 0.05, 0.01, 22, 64)
+	op, err := NewOperator(st, OperatorOptions{Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "x.ckpt")
+	var last *State
+	res, err := Solve(context.Background(), op, SolveOptions{K: 4, Seed: 3, BulkEdge: 1.5,
+		Checkpoint: func(s *State) error { last = s; return WriteCheckpoint(path, "k", s) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Basis == nil || last.RefineIn == nil {
+		t.Fatalf("the solve did not end on a refinement pass (stop %s, %d passes, %d fast)", res.StopReason, res.Passes, res.FastPasses)
+	}
+	back, err := ReadCheckpoint(path, "k")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, p := range map[string][2][]float64{"RefineIn": {last.RefineIn, back.RefineIn}, "Rot": {last.Rot, back.Rot}, "U": {last.U, back.U}} {
+		if len(p[0]) != len(p[1]) {
+			t.Fatalf("%s: %d values written, %d read", name, len(p[0]), len(p[1]))
+		}
+		for i := range p[0] {
+			if p[0][i] != p[1][i] {
+				t.Fatalf("%s[%d]: %v written, %v read", name, i, p[0][i], p[1][i])
+			}
+		}
+	}
+	// Resuming from it stops at once with the same basis and rotation.
+	again, err := Solve(context.Background(), op, SolveOptions{K: 4, Seed: 3, BulkEdge: 1.5, Resume: back})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if again.Passes != res.Passes || !mat.Equal(again.Rotation, res.Rotation) || !mat.Equal(again.Vectors, res.Vectors) {
+		t.Errorf("resumed: %d passes (want %d), rotation or vectors differ", again.Passes, res.Passes)
 	}
 }

@@ -232,6 +232,9 @@ func (op *Operator) reduceJob(ws *workspace, q, t int) {
 func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 	lp, nb := ws.lp, len(sels)
 	op.genoFirst(ws, raw, sels)
+	if ws.capture != nil {
+		ws.capture.write(ws.w, nb, lp)
+	}
 	ws.wpp = grow(ws.wpp, nb*lp)
 	ws.mwpp = grow(ws.mwpp, nb*lp)
 	for q, s := range sels {

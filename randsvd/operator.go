@@ -339,6 +339,7 @@ type workspace struct {
 	run       jobRun   // the job they are running
 	offs      []int32  // row offsets of the block being processed
 	err       error    // first error of a MarkerProducts callback
+	capture   *stash   // set during applyCapture: W rows go there too
 }
 
 // blockTarget is the number of markers the 2-bit kernels want per block:
@@ -450,12 +451,31 @@ func (op *Operator) ApplyFast(ctx context.Context, x, y []float64, l int) error 
 	return op.apply(ctx, x, y, l, true)
 }
 
+// applyCapture is Apply that also writes W = Z X, the first half of the
+// pass, to the stash s (one row of l values per kept marker, in kept
+// marker order), for Loadings.
+func (op *Operator) applyCapture(ctx context.Context, x, y []float64, l int, s *stash) error {
+	s.reset(l)
+	err := op.applyWith(ctx, x, y, l, false, s)
+	s.finish()
+	if err == nil && s.err == nil && s.rows != len(op.markers) {
+		s.err = fmt.Errorf("loadings stash: %d rows for %d markers", s.rows, len(op.markers))
+	}
+	return err
+}
+
 func (op *Operator) apply(ctx context.Context, x, y []float64, l int, fast bool) error {
+	return op.applyWith(ctx, x, y, l, fast, nil)
+}
+
+func (op *Operator) applyWith(ctx context.Context, x, y []float64, l int, fast bool, capture *stash) error {
 	nk := len(op.kept)
 	if l < 1 || len(x) != nk*l || len(y) != nk*l {
 		return fmt.Errorf("operator: shapes x %d, y %d for %d x %d", len(x), len(y), nk, l)
 	}
 	ws := op.newWorkspace(x, l, true, fast)
+	ws.capture = capture
+	defer func() { ws.capture = nil }()
 	defer op.startPool(ws)()
 	done := 0
 	err := op.st.Stream(ctx, op.chunks, op.buffers-1, func(c *matrixio.Chunk) error {
@@ -636,6 +656,9 @@ func (op *Operator) floatChunk(ws *workspace, c *matrixio.Chunk) {
 	ws.csels = op.sels(c.Index, ws.csels)
 	tr := op.floatFirst(ws, c, ws.csels)
 	ws.trace = append(ws.trace, tr...)
+	if ws.capture != nil {
+		ws.capture.write(ws.w, len(ws.csels), ws.lp)
+	}
 	op.forEach(ws, len(op.segs)-1, (*Operator).floatSecondJob)
 }
 

@@ -106,6 +106,7 @@ func RemoveOutliers(ctx context.Context, st *matrixio.Store, popt PCAOptions, oo
 		if len(flagged) == 0 {
 			break
 		}
+		res.Close() // this round's axes are not the final ones
 		left := len(res.Samples) - len(flagged)
 		if left < len(res.Eigenvalues)+1 {
 			return nil, nil, nil, nil, matrixio.BadInput("outlier round %d would leave %d of %d samples, too few for %d PCs (raise the SD threshold)",

@@ -39,6 +39,11 @@ type PCAOptions struct {
 	// ExactPasses disables fast passes (Solve, FastApplier): every pass
 	// float64, about 1.5x the time.
 	ExactPasses bool
+	// LoadingsStash, when not empty, is a directory where the refinement
+	// pass keeps its marker-side products Z U (M * l * 8 bytes of disk, in
+	// a file unlinked at once), so Loadings needs no half pass of its own
+	// (stash.go). Empty: Loadings makes its half pass.
+	LoadingsStash string
 }
 
 // PCAResult is the outcome of RunPCA.
@@ -62,6 +67,20 @@ type PCAResult struct {
 	TW          []TWResult // per PC; nil when the test was off
 	TWMethod    string     // how n' was obtained: "exact trace(K^2)", "assumed M" or "off"
 	TraceSq     float64    // exact trace(K^2) when TWMethod is exact, else NaN
+	// When the run ended on a refinement pass (Result.Basis): Scores =
+	// Basis Rotation. Loadings then computes Z Basis (from the stash or a
+	// half pass) and rotates it, so resumed and cluster runs give the same
+	// loadings as an uninterrupted local one.
+	Basis    []float64
+	Rotation *mat.Dense
+	stash    *stash // Z Basis kept by the last pass, for Loadings (nil: none)
+}
+
+// Close releases the loadings stash, if any (Loadings releases it too).
+func (r *PCAResult) Close() error {
+	s := r.stash
+	r.stash = nil
+	return s.Close()
 }
 
 // MemoryPlan is how a run fits its memory promise.
@@ -186,23 +205,32 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 	if !math.IsNaN(trace) {
 		edge = MPUpperEdgeScaled(trace, op.Dim(), op.Markers())
 	}
+	var sh *stash
+	if opt.LoadingsStash != "" {
+		// Without a stash Loadings makes its own half pass: a directory
+		// that cannot take one costs time, not the run.
+		sh, _ = newStash(op, opt.LoadingsStash)
+	}
 	res, err := Solve(ctx, op, SolveOptions{K: opt.K, Oversample: opt.Oversample, Tol: opt.Tol,
 		MaxPasses: opt.MaxPasses, Seed: opt.Seed, BulkEdge: edge, VarTol: opt.VarTol, Checkpoint: opt.Checkpoint, Resume: opt.Resume,
-		Exact: opt.ExactPasses, Pass: func(p int, rel float64) {
+		// A float store's fast pass is an exact one: no refinement needed.
+		Exact: opt.ExactPasses || op.float, stash: sh, Pass: func(p int, rel float64) {
 			pass = p
 			if opt.Pass != nil {
 				opt.Pass(p, rel)
 			}
 		}})
 	if err != nil {
+		sh.Close()
 		return nil, nil, err
 	}
 	out := &PCAResult{Samples: op.KeptSamples(), Eigenvalues: res.Eigenvalues, Residuals: res.Residuals,
 		Converged: res.Converged, Scores: res.Vectors, Trace: op.Trace(), TraceSqEst: res.TraceSqEst,
 		Markers: op.Markers(), Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, BlockSize: res.BlockSize,
-		History: res.History, Dropped: op.Dropped(), Plan: plan}
+		History: res.History, Dropped: op.Dropped(), Plan: plan, Basis: res.Basis, Rotation: res.Rotation, stash: sh}
 	out.MPEdge = MPUpperEdgeScaled(out.Trace, op.Dim(), op.Markers())
 	if err := tracyWidom(ctx, op, opt, out); err != nil {
+		out.Close()
 		return nil, nil, err
 	}
 	return out, op, nil
@@ -212,18 +240,43 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 // norm over markers) for the kept markers in store order, so a new sample
 // with standardized vector z projects as score_k = z . v_k / sqrt(M
 // lambda_k). fn receives the kept-marker ordinal and the K loadings
-// (reused slice).
+// (reused slice). When the run ended on a refinement pass, Z u_k is
+// (Z Basis) Rotation_k with Z Basis from the stash RunPCA kept
+// (PCAOptions.LoadingsStash, no pass over the store) or from half a pass;
+// otherwise it is half a pass over the scores. It releases the stash.
 func Loadings(ctx context.Context, op *Operator, res *PCAResult, fn func(ord int, v []float64) error) error {
+	defer res.Close()
 	n, k := res.Scores.Dims()
-	x := make([]float64, n*k)
-	for i := 0; i < n; i++ {
-		copy(x[i*k:(i+1)*k], res.Scores.RawRowView(i))
-	}
 	inv := make([]float64, k)
 	for j := range inv {
 		inv[j] = 1 / math.Sqrt(float64(op.Markers())*math.Max(res.Eigenvalues[j], 1e-300))
 	}
 	v := make([]float64, k)
+	if rot := res.Rotation; rot != nil {
+		l, c := rot.Dims()
+		if c < k || len(res.Basis) != n*l {
+			return fmt.Errorf("loadings: basis of %d values and rotation %d x %d for %d samples and %d PCs", len(res.Basis), l, c, n, k)
+		}
+		r := rot.RawMatrix()
+		emit := func(ord int, w []float64) error {
+			for j := range v {
+				var t float64
+				for c, wc := range w {
+					t += wc * r.Data[c*r.Stride+j]
+				}
+				v[j] = t * inv[j]
+			}
+			return fn(ord, v)
+		}
+		if res.stash.usable(op, l) {
+			return res.stash.each(ctx, emit)
+		}
+		return op.MarkerProducts(ctx, res.Basis, l, emit)
+	}
+	x := make([]float64, n*k)
+	for i := 0; i < n; i++ {
+		copy(x[i*k:(i+1)*k], res.Scores.RawRowView(i))
+	}
 	return op.MarkerProducts(ctx, x, k, func(ord int, w []float64) error {
 		for j := range v {
 			v[j] = w[j] * inv[j]
@@ -319,6 +372,10 @@ func (r *PCAResult) Truncate(k int) {
 		return
 	}
 	r.Eigenvalues, r.Residuals, r.Converged = r.Eigenvalues[:k], r.Residuals[:k], r.Converged[:k]
+	if r.Rotation != nil {
+		l, _ := r.Rotation.Dims()
+		r.Rotation = mat.DenseCopyOf(r.Rotation.Slice(0, l, 0, k))
+	}
 	if len(r.TW) > k {
 		r.TW = r.TW[:k]
 	}

@@ -63,6 +63,9 @@ type SolveOptions struct {
 	Resume *State
 	// Exact disables fast passes even when the operator has them.
 	Exact bool
+	// stash, when set and the applier can capture (Operator), keeps Z U of
+	// each refinement pass's input for Loadings (stash.go).
+	stash *stash
 }
 
 // Result holds the top-K eigenpairs of K.
@@ -77,6 +80,11 @@ type Result struct {
 	TraceSqEst  float64     // Hutchinson estimate of trace(K^2) from the first pass
 	BlockSize   int         // l = K + oversampling
 	StopReason  string      // "converged", "bulk-variance-stable" or "max-passes"
+	// When the last pass was a refinement pass: Vectors = Basis Rotation,
+	// Basis (N x l, row-major) its input and Rotation l x K (signs
+	// included). Nil otherwise.
+	Basis    []float64
+	Rotation *mat.Dense
 }
 
 // State is the solver's state after a completed pass: enough to continue
@@ -97,6 +105,12 @@ type State struct {
 	// is fast too; FastPasses counts them.
 	Fast       bool
 	FastPasses int
+	// After a refinement pass (the exact pass that ends the fast ones):
+	// its input RefineIn (N x l) and the Rayleigh-Ritz rotation Rot (l x l,
+	// row-major) with U = RefineIn Rot. Marker loadings are computed from
+	// them (Loadings), so a resumed run gives the same ones. Nil after
+	// other passes.
+	RefineIn, Rot []float64
 }
 
 // Solve computes the top-K eigenpairs of a by a restarted block Krylov
@@ -169,7 +183,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		if err := orthonormalizeWith(q, aq, nil); err != nil {
 			return nil, fmt.Errorf("solve: start block: %w", err)
 		}
-		u, au, theta := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l)
+		u, au, theta, _ := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l)
 		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l), PrevCaptured: math.NaN(),
 			Fast: fast}
 		if fast {
@@ -233,13 +247,26 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 				return nil, err
 			}
 			y := make([]float64, n*l)
-			if err := a.Apply(ctx, u.RawMatrix().Data, y, l); err != nil {
+			c, capture := a.(capturer)
+			capture = capture && opt.stash != nil
+			var err error
+			if capture {
+				err = c.applyCapture(ctx, u.RawMatrix().Data, y, l, opt.stash)
+			} else {
+				err = a.Apply(ctx, u.RawMatrix().Data, y, l)
+			}
+			if err != nil {
 				return nil, err
 			}
-			u, au, theta = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{mat.NewDense(n, l, y)}, l)
+			in := u.RawMatrix().Data
+			var rot *mat.Dense
+			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{mat.NewDense(n, l, y)}, l)
+			if capture {
+				opt.stash.pass = st.Pass + 1
+			}
 			st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
-				PrevCaptured: captured, FastPasses: st.FastPasses}
+				PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
 			prevVar = captured
 			if opt.Pass != nil {
 				opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
@@ -276,7 +303,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			return nil, err
 		}
 		arm := mat.NewDense(n, l, ar)
-		u, au, theta = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l)
+		u, au, theta, _ = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l)
 		st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
 			PrevCaptured: captured, Fast: st.Fast, FastPasses: st.FastPasses}
@@ -292,8 +319,21 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			}
 		}
 	}
-	res := finish(u, au, theta, st, opt)
+	res, signs := finish(u, au, theta, st, opt)
 	res.StopReason = reason
+	if st.RefineIn != nil && len(st.Rot) == l*l {
+		// Fold the sign convention into the rotation: Vectors = Basis Rotation.
+		res.Basis = st.RefineIn
+		res.Rotation = mat.NewDense(l, opt.K, nil)
+		for i := 0; i < l; i++ {
+			for j := 0; j < opt.K; j++ {
+				res.Rotation.Set(i, j, signs[j]*st.Rot[i*l+j])
+			}
+		}
+	}
+	if s := opt.stash; s != nil && (s.pass != st.Pass || res.Basis == nil) {
+		s.pass = 0 // it holds an earlier pass (or none): unusable
+	}
 	return res, nil
 }
 
@@ -305,11 +345,14 @@ func sum(v []float64) float64 {
 	return s
 }
 
-func finish(u, au *mat.Dense, theta []float64, st *State, opt SolveOptions) *Result {
+// finish makes the result of the top K pairs, each vector signed so its
+// entry of largest magnitude is positive, and returns the signs.
+func finish(u, au *mat.Dense, theta []float64, st *State, opt SolveOptions) (*Result, []float64) {
 	n, k := u.RawMatrix().Rows, opt.K
 	res := &Result{Eigenvalues: make([]float64, k), Vectors: mat.NewDense(n, k, nil),
 		Residuals: make([]float64, k), Converged: make([]bool, k), Passes: st.Pass, FastPasses: st.FastPasses,
 		History: st.History, TraceSqEst: st.TraceSqEst, BlockSize: st.L}
+	signs := make([]float64, k)
 	for j := 0; j < k; j++ {
 		res.Eigenvalues[j] = theta[j]
 		var rs float64
@@ -328,11 +371,12 @@ func finish(u, au *mat.Dense, theta []float64, st *State, opt SolveOptions) *Res
 		if u.At(imax, j) < 0 {
 			sign = -1
 		}
+		signs[j] = sign
 		for i := 0; i < n; i++ {
 			res.Vectors.Set(i, j, sign*u.At(i, j))
 		}
 	}
-	return res
+	return res, signs
 }
 
 func relResiduals(u, au *mat.Dense, theta []float64, k int) []float64 {
@@ -368,8 +412,8 @@ func maxOf(v []float64) float64 {
 
 // rayleighRitz takes an orthonormal basis split in blocks B = [B1 B2 ...]
 // with their images KB, forms H = B^T K B (symmetrized), and returns the
-// top l Ritz vectors U = B V, their images KU = KB V and Ritz values.
-func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64) {
+// top l Ritz vectors U = B V, their images KU = KB V, Ritz values and V.
+func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64, v *mat.Dense) {
 	n, _ := b[0].Dims()
 	widths := make([]int, len(b))
 	tot := 0
@@ -413,7 +457,7 @@ func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64)
 	}
 	sort.SliceStable(order, func(x, y int) bool { return vals[order[x]] > vals[order[y]] })
 	l = min(l, tot)
-	v := mat.NewDense(tot, l, nil)
+	v = mat.NewDense(tot, l, nil)
 	theta = make([]float64, l)
 	for j := 0; j < l; j++ {
 		theta[j] = vals[order[j]]
@@ -433,7 +477,7 @@ func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64)
 		ku.Add(ku, &t)
 		ro += widths[i]
 	}
-	return u, ku, theta
+	return u, ku, theta, v
 }
 
 type orthOpts struct {

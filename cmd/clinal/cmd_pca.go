@@ -10,6 +10,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"path/filepath"
 	"runtime"
 	"runtime/debug"
 	"strconv"
@@ -233,6 +234,11 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 	popt := randsvd.PCAOptions{K: o.k, Oversample: o.oversample, Tol: o.tol, VarTol: o.varTol, MaxPasses: o.maxPasses,
 		Seed: o.seed, Threads: o.threads, Memory: int64(o.memory), Scaling: randsvd.Scaling(o.scaling),
 		SampleKept: sel.SampleKept, MarkerKept: sel.MarkerKept, Counts: sel.Counts, TW: o.tw, ExactPasses: o.exact}
+	if !o.noLoadings {
+		// The refinement pass keeps Z U beside the outputs, so the
+		// loadings cost no half pass (randsvd.PCAOptions.LoadingsStash).
+		popt.LoadingsStash = filepath.Dir(o.out)
+	}
 	switch popt.Scaling {
 	case randsvd.ScalePatterson, randsvd.ScaleCenter, randsvd.ScaleZ:
 	default:
@@ -283,6 +289,7 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 	if err != nil {
 		return nil, err
 	}
+	defer res.Close()
 	if len(outl.removed) > 0 {
 		fmt.Fprintf(e.stderr, "pca: removed %d outlier samples (beyond %g SD on the top %d PCs); their scores come from projection\n",
 			len(outl.removed), o.outlierSD, o.outlierPCs)
@@ -337,14 +344,6 @@ func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *ra
 		outl = &outlierResult{}
 	}
 	out := &pcaOutcome{}
-	ph.start("loadings")
-	if !o.noLoadings {
-		if err := writeLoadings(ctx, o.out+".loadings.tsv.gz", st, op, res, sel); err != nil {
-			return nil, err
-		}
-		out.files = append(out.files, o.out+".loadings.tsv.gz")
-	}
-	ph.start("write")
 	// Covariate rows in store order: the samples of the fit, and the
 	// outliers placed on the same axes by projection.
 	row := map[int]int{}
@@ -360,6 +359,30 @@ func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *ra
 			ids, scoreRows, flags = append(ids, id), append(scoreRows, p), append(flags, "yes")
 		}
 	}
+	// The report's plots need the results only: they are drawn while the
+	// loadings are written (both are serial work), the page at the end.
+	rin, err := htmlInput(o, st, res, ids, scoreRows, sel)
+	if err != nil {
+		return nil, err
+	}
+	type drawn struct {
+		f   *htmlreport.PCAFigures
+		err error
+	}
+	figs := make(chan drawn, 1)
+	go func() {
+		f, err := htmlreport.RenderPCAFigures(rin)
+		figs <- drawn{f, err}
+	}()
+	ph.start("loadings")
+	if !o.noLoadings {
+		if err := writeLoadings(ctx, o.out+".loadings.tsv.gz", st, op, res, sel); err != nil {
+			<-figs
+			return nil, err
+		}
+		out.files = append(out.files, o.out+".loadings.tsv.gz")
+	}
+	ph.start("write")
 	copt := matrixio.CovariateOptions{TwoIDColumns: o.twoIDs, Prefix: o.pcPrefix}
 	if o.idHeaders != "" {
 		copt.IDHeaders = strings.Split(o.idHeaders, ",")
@@ -378,10 +401,19 @@ func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *ra
 	}
 	rows := spectrumRows(res)
 	if err := matrixio.WriteSpectrum(o.out+".spectrum.tsv", rows); err != nil {
+		<-figs
 		return nil, err
 	}
+	d := <-figs
 	ph.stop()
-	html, err := writeHTMLReport(o, st, res, ids, scoreRows, sel, ph)
+	if d.err != nil {
+		return nil, fmt.Errorf("report %s: %w", o.out+".report.html", d.err)
+	}
+	for _, n := range ph.order {
+		rin.Timing = append(rin.Timing, htmlreport.Phase{Name: n, Wall: ph.wall[n], CPU: ph.cpu[n]})
+	}
+	rin.PeakRSS = peakRSS()
+	html, err := htmlreport.WritePCAReportFigures(o.out+".report.html", rin, d.f)
 	if err != nil {
 		return nil, err
 	}
@@ -627,10 +659,10 @@ func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel 
 	return r
 }
 
-// writeHTMLReport writes PREFIX.report.html (and its plot copies) for the
+// htmlInput gathers what PREFIX.report.html shows (but its timing) for the
 // samples of the covariate file, coloured by --labels when given.
-func writeHTMLReport(o *pcaOptions, st *matrixio.Store, res *randsvd.PCAResult, ids []string, scores [][]float64,
-	sel *qc.Selection, ph *phaseTimes) ([]string, error) {
+func htmlInput(o *pcaOptions, st *matrixio.Store, res *randsvd.PCAResult, ids []string, scores [][]float64,
+	sel *qc.Selection) (*htmlreport.PCAInput, error) {
 	var groups []string
 	note := ""
 	if o.labels != "" {
@@ -646,10 +678,6 @@ func writeHTMLReport(o *pcaOptions, st *matrixio.Store, res *randsvd.PCAResult, 
 		if j < len(res.TW) {
 			twp[j] = res.TW[j].P
 		}
-	}
-	var phases []htmlreport.Phase
-	for _, n := range ph.order {
-		phases = append(phases, htmlreport.Phase{Name: n, Wall: ph.wall[n], CPU: ph.cpu[n]})
 	}
 	sk, mk := 0, 0
 	for _, k := range sel.SampleKept {
@@ -667,6 +695,6 @@ func writeHTMLReport(o *pcaOptions, st *matrixio.Store, res *randsvd.PCAResult, 
 		Trace: res.Trace, MPEdge: res.MPEdge, Passes: res.Passes, StopReason: res.StopReason,
 		QC: []htmlreport.QCRow{{Name: "samples", Removed: len(sel.SampleKept) - sk, Kept: sk},
 			{Name: "markers", Removed: len(sel.MarkerKept) - mk, Kept: mk}},
-		Timing: phases, PeakRSS: peakRSS(), Samples: len(res.Samples), Markers: res.Markers, K: o.k}
-	return htmlreport.WritePCAReport(o.out+".report.html", in)
+		Samples: len(res.Samples), Markers: res.Markers, K: o.k}
+	return in, nil
 }

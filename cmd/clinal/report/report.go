@@ -92,8 +92,25 @@ func WritePCAHTML(path string, in *PCAInput) error {
 // WritePCAReport is WritePCAHTML that also returns the files written, the
 // report last.
 func WritePCAReport(path string, in *PCAInput) ([]string, error) {
-	if err := checkPCAInput(in); err != nil {
+	f, err := RenderPCAFigures(in)
+	if err != nil {
 		return nil, fmt.Errorf("report %s: %w", path, err)
+	}
+	return WritePCAReportFigures(path, in, f)
+}
+
+// PCAFigures are the drawn plots of a PCA report. Drawing them is most of
+// a report's cost and needs only the results (not the timing table), so a
+// caller can draw them while it writes its other outputs.
+type PCAFigures struct {
+	figs []*figure
+	gs   groupSet
+}
+
+// RenderPCAFigures draws the plots of the report of in.
+func RenderPCAFigures(in *PCAInput) (*PCAFigures, error) {
+	if err := checkPCAInput(in); err != nil {
+		return nil, err
 	}
 	k := len(in.Eigenvalues)
 	n := len(in.SampleIDs)
@@ -118,20 +135,29 @@ func WritePCAReport(path string, in *PCAInput) ([]string, error) {
 		key := fmt.Sprintf("pc%d%d", pair[0]+1, pair[1]+1)
 		f, err := scatterFigure(in, gs, show, pair[0], pair[1], key)
 		if err != nil {
-			return nil, fmt.Errorf("report %s: %w", path, err)
+			return nil, err
 		}
 		f.Caption = caption
 		figs = append(figs, f)
 	}
 	f, err := screeFigure(in)
 	if err != nil {
-		return nil, fmt.Errorf("report %s: %w", path, err)
+		return nil, err
 	}
 	f.Caption = "Eigenvalues of the top PCs of the standardized relationship matrix. PCs above the dashed " +
 		"Marchenko-Pastur edge stand out of what unstructured noise of this shape would give."
 	figs = append(figs, f)
-	page := pcaPage(in, gs)
-	return writeReport(path, page, figs)
+	return &PCAFigures{figs: figs, gs: gs}, nil
+}
+
+// WritePCAReportFigures writes the report of in with plots drawn by
+// RenderPCAFigures from the same results (in may have gained its timing
+// since), as WritePCAReport.
+func WritePCAReportFigures(path string, in *PCAInput, f *PCAFigures) ([]string, error) {
+	if err := checkPCAInput(in); err != nil {
+		return nil, fmt.Errorf("report %s: %w", path, err)
+	}
+	return writeReport(path, pcaPage(in, f.gs), f.figs)
 }
 
 // subsample returns the sample indices drawn: all of them, or every

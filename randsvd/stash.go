@@ -1,0 +1,140 @@
+package randsvd
+
+import (
+	"bufio"
+	"context"
+	"encoding/binary"
+	"fmt"
+	"io"
+	"math"
+	"os"
+)
+
+// A stash keeps, on disk, the marker-side products W = Z U that the
+// refinement pass of Solve computes anyway (the first half of an Operator
+// pass, one row of l values per kept marker). The final sample vectors are
+// U times a small rotation R (Rayleigh-Ritz on span U, then signs:
+// Result.Basis and Rotation), so the loadings Z u_k = (Z U) R_k follow
+// from the stash with no further pass over the store. Without it (a
+// resumed run, a cluster run, a failed write) Loadings computes Z U in a
+// half pass, with the same kernels, so the numbers are the same.
+//
+// The rows take M * l * 8 bytes of disk, not memory: the file is unlinked
+// as soon as it is made, so nothing is left behind by a crash.
+type stash struct {
+	op   *Operator
+	f    *os.File
+	bw   *bufio.Writer
+	buf  []byte
+	l    int
+	rows int
+	err  error // first write error: the stash is unusable
+	pass int   // solver pass whose input the rows are Z times; 0: none
+}
+
+// newStash makes an unlinked temporary file in dir ("" is the system's
+// temporary directory).
+func newStash(op *Operator, dir string) (*stash, error) {
+	f, err := os.CreateTemp(dir, ".clinal-stash-*")
+	if err != nil {
+		return nil, fmt.Errorf("loadings stash: %w", err)
+	}
+	// Unlinked at once where the system allows it; Close removes it on
+	// the others.
+	os.Remove(f.Name())
+	return &stash{op: op, f: f, bw: bufio.NewWriterSize(f, 1<<16)}, nil
+}
+
+// reset starts a new capture of rows of l values.
+func (s *stash) reset(l int) {
+	s.l, s.rows, s.pass, s.err = l, 0, 0, nil
+	if _, err := s.f.Seek(0, io.SeekStart); err != nil {
+		s.err = err
+		return
+	}
+	if err := s.f.Truncate(0); err != nil {
+		s.err = err
+		return
+	}
+	s.bw.Reset(s.f)
+}
+
+// write appends nb rows of w (stride lp, l values each).
+func (s *stash) write(w []float64, nb, lp int) {
+	if s.err != nil {
+		return
+	}
+	if cap(s.buf) < 8*s.l {
+		s.buf = make([]byte, 8*s.l)
+	}
+	b := s.buf[:8*s.l]
+	for q := 0; q < nb; q++ {
+		for k, v := range w[q*lp : q*lp+s.l] {
+			binary.LittleEndian.PutUint64(b[8*k:], math.Float64bits(v))
+		}
+		if _, err := s.bw.Write(b); err != nil {
+			s.err = fmt.Errorf("loadings stash: %w", err)
+			return
+		}
+	}
+	s.rows += nb
+}
+
+// finish ends a capture.
+func (s *stash) finish() {
+	if s.err == nil {
+		if err := s.bw.Flush(); err != nil {
+			s.err = fmt.Errorf("loadings stash: %w", err)
+		}
+	}
+}
+
+// usable says whether the stash holds, for op, Z times the basis of the
+// solver's last pass, l columns (Solve clears pass otherwise).
+func (s *stash) usable(op *Operator, l int) bool {
+	return s != nil && s.f != nil && s.err == nil && s.op == op && s.pass > 0 && s.l == l && s.rows == op.NumKeptMarkers()
+}
+
+// each streams the stashed rows of Z U to fn, in kept marker order.
+func (s *stash) each(ctx context.Context, fn func(ord int, w []float64) error) error {
+	if _, err := s.f.Seek(0, io.SeekStart); err != nil {
+		return fmt.Errorf("loadings stash: %w", err)
+	}
+	br := bufio.NewReaderSize(s.f, 1<<16)
+	b := make([]byte, 8*s.l)
+	w := make([]float64, s.l)
+	for ord := 0; ord < s.rows; ord++ {
+		if ord%4096 == 0 {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+		}
+		if _, err := io.ReadFull(br, b); err != nil {
+			return fmt.Errorf("loadings stash: row %d: %w", ord, err)
+		}
+		for c := range w {
+			w[c] = math.Float64frombits(binary.LittleEndian.Uint64(b[8*c:]))
+		}
+		if err := fn(ord, w); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// Close releases the file.
+func (s *stash) Close() error {
+	if s == nil || s.f == nil {
+		return nil
+	}
+	err := s.f.Close()
+	os.Remove(s.f.Name()) // where it could not be unlinked while open
+	s.f = nil
+	return err
+}
+
+// capturer is implemented by Operator: an application that also stashes
+// W = Z X.
+type capturer interface {
+	applyCapture(ctx context.Context, x, y []float64, l int, s *stash) error
+}
