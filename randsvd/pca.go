@@ -233,6 +233,11 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 		out.Close()
 		return nil, nil, err
 	}
+	if sh.usable(op, res.BlockSize) {
+		// The loadings need no pass: the pass buffers (block, partial
+		// products, tables: megabytes) can go before the outputs are made.
+		op.ws = nil
+	}
 	return out, op, nil
 }
 
