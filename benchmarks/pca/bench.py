@@ -7,9 +7,9 @@ trace(U^T K U) / M-normalized for both, judged by the same numpy code.
 Also measures clinal's peak RSS at fixed N for two marker counts (memory
 must not grow with M).
 
-usage: benchmarks/pca/bench.py [--samples 5000] [--markers 50000] [--out DIR]
+usage: benchmarks/pca/bench.py [--samples 5000] [--markers 50000] [--rounds 5] [--out DIR]
 """
-import argparse, json, os, resource, subprocess, sys, time
+import argparse, json, os, resource, statistics, subprocess, sys, time
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
@@ -60,6 +60,7 @@ def main():
     ap.add_argument("--markers", type=int, default=50000)
     ap.add_argument("--out", default=os.path.join(ROOT, "bench-out", "pca"))
     ap.add_argument("--threads", type=int, default=2)
+    ap.add_argument("--rounds", type=int, default=5, help="side-by-side rounds; medians are reported")
     args = ap.parse_args()
     os.makedirs(args.out, exist_ok=True)
     exe = os.path.join(args.out, "clinal")
@@ -75,40 +76,56 @@ def main():
             subprocess.check_call([exe, "simulate", "-o", st, "--samples", str(args.samples), "--markers", str(m),
                                    "--populations", "3", "--fst", "0.05", "--admixed", "0", "--seed", "1"])
         stores[m] = st
-    # clinal pca, whole process, at both sizes (memory flatness) ...
-    for m, st in stores.items():
-        prefix = os.path.join(args.out, f"clinal_{m}")
-        wall, rss = run_child([exe, "pca", st, "-k", "10", "-o", prefix, "--threads", str(args.threads)] + nofilter,
-                              stdout=subprocess.DEVNULL)
-        rep = json.load(open(prefix + ".report.json"))
-        rows.append({"tool": "clinal pca -k 10", "samples": args.samples, "markers": m, "wall_s": wall,
-                     "peak_rss_bytes": rss, "passes": rep["passes"], "stop": rep["stop_reason"]})
-    # ... and sklearn on the big one, same standardized matrix.
+    # Each round runs clinal pca (whole process) at both sizes and sklearn
+    # on the big one, back to back, so every round is a side-by-side
+    # measurement; medians over the rounds damp a shared machine's noise.
     big = stores[args.markers]
     npy = os.path.join(args.out, "z.npy")
     subprocess.check_call([os.path.join(args.out, "dumpz"), big, npy])
     sk_u = os.path.join(args.out, "sklearn_u.npy")
-    p = subprocess.Popen(["/usr/bin/python3", "-c", SKLEARN_CHILD, npy, sk_u], stdout=subprocess.PIPE)
-    t0 = time.time()
-    outb = p.stdout.read()
-    _, status, ru = os.wait4(p.pid, 0)
-    sk = json.loads(outb)
+    runs = {m: [] for m in stores}
+    sk_runs = []
+    for rnd in range(args.rounds):
+        for m, st in stores.items():
+            prefix = os.path.join(args.out, f"clinal_{m}")
+            wall, rss = run_child([exe, "pca", st, "-k", "10", "-o", prefix, "--threads", str(args.threads)] + nofilter,
+                                  stdout=subprocess.DEVNULL)
+            rep = json.load(open(prefix + ".report.json"))
+            runs[m].append((wall, rss, rep["passes"], rep["stop_reason"]))
+        p = subprocess.Popen(["/usr/bin/python3", "-c", SKLEARN_CHILD, npy, sk_u], stdout=subprocess.PIPE)
+        outb = p.stdout.read()
+        _, status, ru = os.wait4(p.pid, 0)
+        sk_runs.append((json.loads(outb)["compute_seconds"], ru.ru_maxrss * 1024))
+        print(f"round {rnd + 1}: clinal {runs[args.markers][-1][0]:.3f} s, sklearn {sk_runs[-1][0]:.3f} s, "
+              f"ratio {runs[args.markers][-1][0] / sk_runs[-1][0]:.3f}", flush=True)
+    med = statistics.median
+    rows = []
+    for m in stores:
+        w = [r[0] for r in runs[m]]
+        rows.append({"tool": "clinal pca -k 10", "samples": args.samples, "markers": m, "wall_s": med(w),
+                     "wall_min_s": min(w), "wall_max_s": max(w), "peak_rss_bytes": max(r[1] for r in runs[m]),
+                     "passes": runs[m][-1][2], "stop": runs[m][-1][3]})
+    w = [r[0] for r in sk_runs]
     rows.append({"tool": "sklearn randomized_svd f32 n_iter=4", "samples": args.samples, "markers": args.markers,
-                 "wall_s": sk["compute_seconds"], "peak_rss_bytes": ru.ru_maxrss * 1024, "passes": "", "stop": "compute only"})
+                 "wall_s": med(w), "wall_min_s": min(w), "wall_max_s": max(w),
+                 "peak_rss_bytes": max(r[1] for r in sk_runs), "passes": "", "stop": "compute only"})
+    ratios = [c[0] / s_[0] for c, s_ in zip(runs[args.markers], sk_runs)]
     judge = json.loads(subprocess.check_output(["/usr/bin/python3", "-c", JUDGE, npy,
                                                  os.path.join(args.out, f"clinal_{args.markers}.covariates.tsv"), sk_u]))
     rows[1]["captured_variance"] = judge["clinal"]
     rows[2]["captured_variance"] = judge["sklearn"]
     os.remove(npy)
     path = os.path.join(ROOT, "benchmarks", "pca", "results.tsv")
-    cols = ["tool", "samples", "markers", "wall_s", "peak_rss_bytes", "passes", "stop", "captured_variance"]
+    cols = ["tool", "samples", "markers", "wall_s", "wall_min_s", "wall_max_s", "peak_rss_bytes", "passes", "stop",
+            "captured_variance"]
     with open(path, "w") as f:
         f.write("\t".join(cols) + "\n")
         for r in rows:
             f.write("\t".join(str(r.get(c, "")) for c in cols) + "\n")
     print(open(path).read())
     c, s = rows[1], rows[2]
-    print(f"clinal/sklearn wall: {c['wall_s'] / s['wall_s']:.2f}x; peak RSS: {c['peak_rss_bytes'] / s['peak_rss_bytes']:.3f}x;"
+    print(f"clinal/sklearn wall, per round: {', '.join(f'{r:.2f}' for r in ratios)}; median {med(ratios):.2f}x")
+    print(f"clinal/sklearn wall (medians): {c['wall_s'] / s['wall_s']:.2f}x; peak RSS: {c['peak_rss_bytes'] / s['peak_rss_bytes']:.3f}x;"
           f" captured variance {c['captured_variance']:.6f} vs {s['captured_variance']:.6f}")
     print(f"clinal peak RSS at M={args.markers} vs M={args.markers // 10}: {rows[1]['peak_rss_bytes'] / rows[0]['peak_rss_bytes']:.3f}x")
 
