@@ -127,7 +127,12 @@ func rowOffsets(sels []sel, rb int, buf []int32) []int32 {
 // (code 3) in a packed row, eight bytes at a time: a set bit of
 // x & x>>1 & 0x55... marks a missing code.
 func findMissing(row []byte, n int, dst []int32) []int32 {
-	dst = dst[:0]
+	return appendMissing(dst[:0], row, n)
+}
+
+// appendMissing is findMissing appending to dst.
+func appendMissing(dst []int32, row []byte, n int) []int32 {
+	start := len(dst)
 	const lo = 0x5555555555555555
 	nw := len(row) / 8
 	for w := 0; w < nw; w++ {
@@ -146,7 +151,7 @@ func findMissing(row []byte, n int, dst []int32) []int32 {
 	}
 	// Codes past the last sample (the padding of the last byte) are not
 	// samples; the list is ascending, so they are at its end.
-	for len(dst) > 0 && int(dst[len(dst)-1]) >= n {
+	for len(dst) > start && int(dst[len(dst)-1]) >= n {
 		dst = dst[:len(dst)-1]
 	}
 	return dst
@@ -173,8 +178,18 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 		ws.missCut = make([]int32, nb*(nseg+1))
 	}
 	ws.missCut = ws.missCut[:nb*(nseg+1)]
-	op.forEach(ws, nb, (*Operator).reduceJob)
+	nr := (nb + reduceRange - 1) / reduceRange
+	for len(ws.missR) < nr {
+		ws.missR = append(ws.missR, nil)
+	}
+	op.forEach(ws, nr, (*Operator).reduceJob)
 }
+
+// reduceRange is the number of consecutive markers of a reduce job. Their
+// missing-call lists share one buffer, in marker order, so the second
+// product reads them as a stream (lists of their own, scattered over the
+// heap, cost a cache miss each there).
+const reduceRange = 64
 
 // firstJob: the first product's tiles of sample segment sg into its
 // partial rows.
@@ -185,15 +200,30 @@ func (op *Operator) firstJob(ws *workspace, sg, t int) {
 	op.firstTiles(ws, part, ws.raw, ws.offs, sg, t)
 }
 
-// reduceJob: marker q's missing calls, its W row summed over the segments
-// in order, and the standardization applied.
-func (op *Operator) reduceJob(ws *workspace, q, t int) {
-	lp, n, nb := ws.lp, op.n, len(ws.sels)
+// reduceJob: for the markers of range r, their missing calls, their W
+// rows summed over the segments in order, and the standardization
+// applied.
+func (op *Operator) reduceJob(ws *workspace, r, t int) {
 	rb := op.st.RowBytes()
+	buf := ws.missR[r][:0]
+	for q := r * reduceRange; q < min((r+1)*reduceRange, len(ws.sels)); q++ {
+		s := ws.sels[q]
+		k := len(buf)
+		buf = appendMissing(buf, ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], op.n)
+		// (A buffer that grows leaves earlier lists in the old array,
+		// still valid; in the steady state it does not grow.)
+		ws.miss[q] = buf[k:len(buf):len(buf)]
+		op.reduceMarker(ws, q, t)
+	}
+	ws.missR[r] = buf
+}
+
+// reduceMarker: marker q's W row from its partials and missing calls.
+func (op *Operator) reduceMarker(ws *workspace, q, t int) {
+	lp, nb := ws.lp, len(ws.sels)
 	segs := op.segs
 	nseg := len(segs) - 1
 	s := ws.sels[q]
-	ws.miss[q] = findMissing(ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], n, ws.miss[q])
 	// Where the (ascending) missing list crosses each segment start.
 	cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
 	k := 0

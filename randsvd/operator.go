@@ -324,7 +324,8 @@ type workspace struct {
 	scratch   []float64 // threads x lp
 	scratch32 []float32 // threads x lp
 	part      []float64 // segments x b x lp partial first products
-	miss      [][]int32 // per block marker: samples with a missing call
+	miss      [][]int32 // per block marker: samples with a missing call (in missR)
+	missR     [][]int32 // per range of reduceRange markers: their lists, in order
 	missCut   []int32   // per block marker: where miss crosses each segment start (segments+1)
 	z         []float64 // float stores: b x N standardized block
 	ss        []float64 // float stores: the chunk's per-marker sums of squares (reused)
