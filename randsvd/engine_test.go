@@ -286,6 +286,7 @@ func TestSolveAgainstEigenSym(t *testing.T) {
 						}
 					}
 				}
+				t.Logf("captured variance of the top %d: %.5f of exact", k, capt/exact)
 				if capt/exact < 0.99 {
 					t.Errorf("captured variance of top %d: %v of exact", k, capt/exact)
 				}

@@ -14,7 +14,7 @@ type PCAOptions struct {
 	K          int
 	Oversample int
 	Tol        float64
-	VarTol     float64 // bulk stop: relative change of the captured variance (default 1e-3)
+	VarTol     float64 // bulk stop: relative change of the captured variance (default 2e-3)
 	MaxPasses  int
 	Seed       uint64
 	Threads    int

@@ -51,7 +51,7 @@ type SolveOptions struct {
 	// wanted Ritz values) changed by less than VarTol in the last pass.
 	// Pairs stopped that way are reported as not converged.
 	BulkEdge float64
-	VarTol   float64 // default 1e-3
+	VarTol   float64 // default 2e-3
 	// Pass, when set, is called after each pass with the pass number and
 	// the largest relative residual of the wanted pairs so far (NaN before
 	// the first Rayleigh-Ritz step).
@@ -143,7 +143,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		opt.MaxPasses = 30
 	}
 	if opt.VarTol <= 0 {
-		opt.VarTol = 1e-3
+		opt.VarTol = 2e-3
 	}
 	if opt.MaxPasses < 2 {
 		opt.MaxPasses = 2

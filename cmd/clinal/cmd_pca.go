@@ -76,7 +76,7 @@ func pcaFlags(fs *flag.FlagSet, o *pcaOptions) {
 	fs.IntVar(&o.oversample, "oversample", 0, "extra block vectors (default max(10, k/2))")
 	fs.Uint64Var(&o.seed, "seed", 1, "random seed (same seed and inputs give the same numbers)")
 	fs.Float64Var(&o.tol, "tol", 1e-6, "stop when ||K u - lambda u|| <= tol * lambda for every PC")
-	fs.Float64Var(&o.varTol, "var-tol", 1e-3, "PCs below the Marchenko-Pastur edge (noise) may stop once the captured variance changes by less than this per pass")
+	fs.Float64Var(&o.varTol, "var-tol", 2e-3, "PCs below the Marchenko-Pastur edge (noise) may stop once the captured variance changes by less than this per pass")
 	fs.IntVar(&o.maxPasses, "max-passes", 30, "most passes over the store")
 	fs.IntVar(&o.threads, "threads", runtime.NumCPU(), "compute threads (results do not depend on it)")
 	fs.Var(&o.memory, "memory", "memory promise, e.g. 4GiB (0: no limit)")
