@@ -126,10 +126,11 @@ func WriteSpectrum(path string, rows []SpectrumRow) error {
 // counted, its frequency, the scale (standard deviation divided out), then
 // one column per PC.
 type LoadingsWriter struct {
-	a  *AtomicFile
-	fw *bufio.Writer // the compressed stream (flate emits pieces of ~250 bytes)
-	gz *gzip.Writer
-	bw *bufio.Writer // the text
+	a   *AtomicFile
+	fw  *bufio.Writer // the compressed stream (flate emits pieces of ~250 bytes)
+	gz  *gzip.Writer
+	num []byte        // a row's numbers, formatted (reused)
+	bw  *bufio.Writer // the text
 }
 
 // LoadingsHeaderStart is the fixed start of the loadings header.
@@ -158,7 +159,8 @@ func (lw *LoadingsWriter) Write(m Marker, freq, scale float64, v []float64) erro
 	b := lw.bw
 	b.WriteString(m.Chrom)
 	b.WriteByte('\t')
-	b.WriteString(strconv.FormatInt(m.Pos, 10))
+	lw.num = strconv.AppendInt(lw.num[:0], m.Pos, 10)
+	b.Write(lw.num)
 	b.WriteByte('\t')
 	b.WriteString(m.ID)
 	b.WriteByte('\t')
@@ -168,14 +170,27 @@ func (lw *LoadingsWriter) Write(m Marker, freq, scale float64, v []float64) erro
 	b.WriteByte('\t')
 	b.WriteString(m.Alt)
 	b.WriteByte('\t')
-	b.WriteString(FormatFloat(freq))
-	b.WriteByte('\t')
-	b.WriteString(FormatFloat(scale))
+	// Numbers are formatted into one reused buffer (FormatFloat's digits,
+	// without a string per value).
+	t := appendFloat(lw.num[:0], freq)
+	t = append(t, '\t')
+	t = appendFloat(t, scale)
 	for _, x := range v {
-		b.WriteByte('\t')
-		b.WriteString(FormatFloat(x))
+		t = append(t, '\t')
+		t = appendFloat(t, x)
 	}
-	return b.WriteByte('\n')
+	t = append(t, '\n')
+	lw.num = t
+	_, err := b.Write(t)
+	return err
+}
+
+// appendFloat appends FormatFloat(v).
+func appendFloat(b []byte, v float64) []byte {
+	if math.IsNaN(v) {
+		return append(b, "NA"...)
+	}
+	return strconv.AppendFloat(b, v, 'g', -1, 64)
 }
 
 // Close finishes and commits the file.

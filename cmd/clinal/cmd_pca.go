@@ -273,7 +273,11 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 			popt.Resume = state
 		}
 	}
-	popt.Checkpoint = func(s *randsvd.State) error { return randsvd.WriteCheckpoint(ckpt, key, s) }
+	// Each checkpoint is written while the next pass runs (the state is
+	// not changed after the callback); every return waits for the last.
+	var cw checkpointWriter
+	defer cw.wait()
+	popt.Checkpoint = func(s *randsvd.State) error { return cw.write(ckpt, key, s) }
 	var res *randsvd.PCAResult
 	var op *randsvd.Operator
 	var outl outlierResult
@@ -300,11 +304,42 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		res.Truncate(k)
 		o.k = k
 	}
+	if err := cw.wait(); err != nil {
+		return nil, err
+	}
 	out, err := writePCAOutputsWith(ctx, e, st, op, res, sel, o, ph, t0, &outl)
 	if err == nil {
 		os.Remove(ckpt)
 	}
 	return out, err
+}
+
+// checkpointWriter writes solver checkpoints in the background, one at a
+// time: a new state waits for the previous write, and the first error is
+// returned by the next write or by wait.
+type checkpointWriter struct {
+	done chan error
+	err  error
+}
+
+func (c *checkpointWriter) write(path, key string, s *randsvd.State) error {
+	if err := c.wait(); err != nil {
+		return err
+	}
+	c.done = make(chan error, 1)
+	go func() { c.done <- randsvd.WriteCheckpoint(path, key, s) }()
+	return nil
+}
+
+// wait blocks until no write is in flight.
+func (c *checkpointWriter) wait() error {
+	if c.done != nil {
+		if err := <-c.done; err != nil && c.err == nil {
+			c.err = err
+		}
+		c.done = nil
+	}
+	return c.err
 }
 
 // checkpointKey identifies what a checkpoint's solver state depends on: the
