@@ -1,6 +1,7 @@
 package randsvd
 
 import (
+	"bufio"
 	"encoding/binary"
 	"errors"
 	"fmt"
@@ -39,46 +40,51 @@ func WriteCheckpoint(path, key string, st *State) error {
 	if len(st.History) > 0 {
 		hw = len(st.History[0])
 	}
-	// The whole file is encoded in memory first (a few N x l blocks, which
-	// the solver holds anyway), then written in one piece.
-	nf := len(st.U) + len(st.AU) + len(st.Theta) + len(st.History)*hw + 2 + len(st.RefineIn) + len(st.Rot)
-	b := make([]byte, 0, 8+8*9+len(key)+8*nf+4)
-	b = append(b, ckptMagic[:]...)
-	put := func(v uint64) { b = binary.LittleEndian.AppendUint64(b, v) }
-	f := func(xs []float64) {
-		for _, x := range xs {
-			b = binary.LittleEndian.AppendUint64(b, math.Float64bits(x))
-		}
-	}
-	put(3)
-	put(uint64(len(key)))
-	b = append(b, key...)
-	for _, v := range []int{st.Pass, st.L, st.N, len(st.History), hw} {
-		put(uint64(v))
-	}
-	f(st.U)
-	f(st.AU)
-	f(st.Theta)
-	for _, r := range st.History {
-		f(r)
-	}
-	f([]float64{st.TraceSqEst, st.PrevCaptured})
-	fast := uint64(0)
-	if st.Fast {
-		fast = 1
-	}
-	put(fast)
-	put(uint64(st.FastPasses))
-	if st.RefineIn != nil {
-		put(1)
-		f(st.RefineIn)
-		f(st.Rot)
-	} else {
-		put(0)
-	}
-	b = binary.LittleEndian.AppendUint32(b, crc32.Checksum(b, crc32.MakeTable(crc32.Castagnoli)))
 	return matrixio.WriteFileAtomic(path, func(w io.Writer) error {
-		_, err := w.Write(b)
+		h := crc32.New(crc32.MakeTable(crc32.Castagnoli))
+		bw := bufio.NewWriterSize(io.MultiWriter(w, h), 1<<16)
+		var b [8]byte
+		put := func(v uint64) {
+			binary.LittleEndian.PutUint64(b[:], v)
+			bw.Write(b[:])
+		}
+		f := func(xs []float64) {
+			for _, x := range xs {
+				put(math.Float64bits(x))
+			}
+		}
+		bw.Write(ckptMagic[:])
+		put(3)
+		put(uint64(len(key)))
+		bw.WriteString(key)
+		for _, v := range []int{st.Pass, st.L, st.N, len(st.History), hw} {
+			put(uint64(v))
+		}
+		f(st.U)
+		f(st.AU)
+		f(st.Theta)
+		for _, r := range st.History {
+			f(r)
+		}
+		f([]float64{st.TraceSqEst, st.PrevCaptured})
+		fast := uint64(0)
+		if st.Fast {
+			fast = 1
+		}
+		put(fast)
+		put(uint64(st.FastPasses))
+		if st.RefineIn != nil {
+			put(1)
+			f(st.RefineIn)
+			f(st.Rot)
+		} else {
+			put(0)
+		}
+		if err := bw.Flush(); err != nil {
+			return err
+		}
+		binary.LittleEndian.PutUint32(b[:4], h.Sum32())
+		_, err := w.Write(b[:4])
 		return err
 	})
 }
