@@ -25,11 +25,14 @@ type stash struct {
 	op   *Operator
 	f    *os.File
 	bw   *bufio.Writer
-	buf  []byte
 	l    int
 	rows int
 	err  error // first write error: the stash is unusable
 	pass int   // solver pass whose input the rows are Z times; 0: none
+	// During a capture a goroutine encodes and writes the blocks, so the
+	// pass does not wait on it: rows go over in one of two buffers.
+	full, free chan []float64
+	done       chan error
 }
 
 // newStash makes an unlinked temporary file in dir ("" is the system's
@@ -57,6 +60,27 @@ func (s *stash) reset(l int) {
 		return
 	}
 	s.bw.Reset(s.f)
+	s.full, s.free, s.done = make(chan []float64, 2), make(chan []float64, 2), make(chan error, 1)
+	s.free <- nil
+	s.free <- nil
+	go func() {
+		var err error
+		var b []byte
+		for rows := range s.full {
+			if err == nil {
+				b = b[:0]
+				for _, v := range rows {
+					b = binary.LittleEndian.AppendUint64(b, math.Float64bits(v))
+				}
+				_, err = s.bw.Write(b)
+			}
+			s.free <- rows
+		}
+		if err == nil {
+			err = s.bw.Flush()
+		}
+		s.done <- err
+	}()
 }
 
 // write appends nb rows of w (stride lp, l values each).
@@ -64,29 +88,24 @@ func (s *stash) write(w []float64, nb, lp int) {
 	if s.err != nil {
 		return
 	}
-	if cap(s.buf) < 8*s.l {
-		s.buf = make([]byte, 8*s.l)
-	}
-	b := s.buf[:8*s.l]
+	rows := (<-s.free)[:0]
 	for q := 0; q < nb; q++ {
-		for k, v := range w[q*lp : q*lp+s.l] {
-			binary.LittleEndian.PutUint64(b[8*k:], math.Float64bits(v))
-		}
-		if _, err := s.bw.Write(b); err != nil {
-			s.err = fmt.Errorf("loadings stash: %w", err)
-			return
-		}
+		rows = append(rows, w[q*lp:q*lp+s.l]...)
 	}
+	s.full <- rows
 	s.rows += nb
 }
 
 // finish ends a capture.
 func (s *stash) finish() {
-	if s.err == nil {
-		if err := s.bw.Flush(); err != nil {
-			s.err = fmt.Errorf("loadings stash: %w", err)
-		}
+	if s.full == nil {
+		return
 	}
+	close(s.full)
+	if err := <-s.done; err != nil && s.err == nil {
+		s.err = fmt.Errorf("loadings stash: %w", err)
+	}
+	s.full, s.free, s.done = nil, nil, nil
 }
 
 // usable says whether the stash holds, for op, Z times the basis of the
