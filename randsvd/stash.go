@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"path/filepath"
 )
 
 // A stash keeps, on disk, the marker-side products W = Z U that the
@@ -38,13 +39,16 @@ type stash struct {
 // newStash makes an unlinked temporary file in dir ("" is the system's
 // temporary directory).
 func newStash(op *Operator, dir string) (*stash, error) {
-	f, err := os.CreateTemp(dir, ".clinal-stash-*")
+	f, err := openUnnamed(dir)
 	if err != nil {
-		return nil, fmt.Errorf("loadings stash: %w", err)
+		// A named temporary (".partial", as every temporary of clinal),
+		// unlinked at once where the system allows it; Close removes it
+		// on the others.
+		if f, err = os.CreateTemp(dir, ".clinal-stash-*.partial"); err != nil {
+			return nil, fmt.Errorf("loadings stash: %w", err)
+		}
+		os.Remove(f.Name())
 	}
-	// Unlinked at once where the system allows it; Close removes it on
-	// the others.
-	os.Remove(f.Name())
 	return &stash{op: op, f: f, bw: bufio.NewWriterSize(f, 1<<16)}, nil
 }
 
@@ -147,7 +151,9 @@ func (s *stash) Close() error {
 		return nil
 	}
 	err := s.f.Close()
-	os.Remove(s.f.Name()) // where it could not be unlinked while open
+	if _, e := os.Lstat(s.f.Name()); e == nil && filepath.Ext(s.f.Name()) == ".partial" {
+		os.Remove(s.f.Name()) // where it could not be unlinked while open
+	}
 	s.f = nil
 	return err
 }
