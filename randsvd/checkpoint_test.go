@@ -2,8 +2,12 @@ package randsvd
 
 import (
 	"context"
+	"encoding/binary"
 	"errors"
+	"hash/crc32"
+	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -110,5 +114,68 @@ func TestCheckpointRefinementBasis(t *testing.T) {
 	}
 	if again.Passes != res.Passes || !mat.Equal(again.Rotation, res.Rotation) || !mat.Equal(again.Vectors, res.Vectors) {
 		t.Errorf("resumed: %d passes (want %d), rotation or vectors differ", again.Passes, res.Passes)
+	}
+}
+
+// TestCheckpointVersions reads checkpoints in the layouts of versions 1
+// (no fast-pass fields) and 2 (no refinement fields), made from a version
+// 3 file by dropping those fields, and rejects a file whose refinement
+// flag disagrees with its size (format defined in checkpoint.go; no
+// outside source).
+func TestCheckpointVersions(t *testing.T) {
+	st := &State{Pass: 4, L: 2, N: 3, U: []float64{1, 2, 3, 4, 5, 6}, AU: []float64{6, 5, 4, 3, 2, 1},
+		Theta: []float64{9, 8}, TraceSqEst: 7, PrevCaptured: 17, History: [][]float64{{0.5}}, Fast: true, FastPasses: 3}
+	path := filepath.Join(t.TempDir(), "c.ckpt")
+	if err := WriteCheckpoint(path, "k", st); err != nil {
+		t.Fatal(err)
+	}
+	v3, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	body := v3[:len(v3)-4]
+	// The tail of a version 3 file without a basis: fast flag, fast
+	// passes, refinement flag (8 bytes each).
+	remake := func(ver uint64, drop int) []byte {
+		b := append([]byte(nil), body[:len(body)-drop]...)
+		binary.LittleEndian.PutUint64(b[8:], ver)
+		return binary.LittleEndian.AppendUint32(b, crc32.Checksum(b, crc32.MakeTable(crc32.Castagnoli)))
+	}
+	// A refinement flag of 1 with no basis after it.
+	bad := append([]byte(nil), body...)
+	binary.LittleEndian.PutUint64(bad[len(bad)-8:], 1)
+	bad = binary.LittleEndian.AppendUint32(bad, crc32.Checksum(bad, crc32.MakeTable(crc32.Castagnoli)))
+	cases := []struct {
+		name       string
+		file       []byte
+		fast       bool
+		fastPasses int
+		err        string
+	}{
+		{"version 3", v3, true, 3, ""},
+		{"version 2", remake(2, 8), true, 3, ""},
+		{"version 1", remake(1, 24), false, 0, ""},
+		{"refinement flag without basis", bad, false, 0, "bad refinement field"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			if err := os.WriteFile(path, tc.file, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			got, err := ReadCheckpoint(path, "k")
+			if tc.err != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.err) {
+					t.Fatalf("error %v, want %q", err, tc.err)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got.Pass != 4 || got.Fast != tc.fast || got.FastPasses != tc.fastPasses || got.RefineIn != nil ||
+				got.TraceSqEst != 7 || got.PrevCaptured != 17 || got.U[5] != 6 || got.AU[0] != 6 || got.Theta[1] != 8 || got.History[0][0] != 0.5 {
+				t.Errorf("read back %+v", got)
+			}
+		})
 	}
 }
