@@ -15,7 +15,7 @@ import (
 
 // Checkpoint files hold a solver State after a completed pass, so a run
 // that was killed resumes where it stopped and gives the same numbers as
-// an uninterrupted one. Layout (little endian): magic "CLNLCKPT", u32
+// an uninterrupted one. Layout (little endian): magic "CLNLCKPT", u64
 // version, key (length-prefixed string identifying inputs and parameters),
 // u64 pass, l, n, k-history rows and width, then U, AU, Theta, the history,
 // TraceSqEst and PrevCaptured as float64, (version 2) u64 fast flag and

@@ -109,6 +109,7 @@ func RemoveOutliers(ctx context.Context, st *matrixio.Store, popt PCAOptions, oo
 		res.Close() // this round's axes are not the final ones
 		left := len(res.Samples) - len(flagged)
 		if left < len(res.Eigenvalues)+1 {
+			res.Close()
 			return nil, nil, nil, nil, matrixio.BadInput("outlier round %d would leave %d of %d samples, too few for %d PCs (raise the SD threshold)",
 				round, left, len(res.Samples), len(res.Eigenvalues))
 		}
@@ -126,6 +127,7 @@ func RemoveOutliers(ctx context.Context, st *matrixio.Store, popt PCAOptions, oo
 		// The Tracy-Widom test of the final axes, as RunPCA would have run
 		// it (exact trace(K^2) costs N/32 passes, so not in every round).
 		if err := tracyWidom(ctx, op, popt, res); err != nil {
+			res.Close()
 			return nil, nil, nil, nil, err
 		}
 	}
@@ -138,6 +140,7 @@ func RemoveOutliers(ctx context.Context, st *matrixio.Store, popt PCAOptions, oo
 		}
 		projected, err = ProjectStoreSamples(ctx, st, res, p, idx)
 		if err != nil {
+			res.Close()
 			return nil, nil, nil, nil, err
 		}
 	}

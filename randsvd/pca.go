@@ -41,8 +41,9 @@ type PCAOptions struct {
 	ExactPasses bool
 	// LoadingsStash, when not empty, is a directory where the refinement
 	// pass keeps its marker-side products Z U (M * l * 8 bytes of disk, in
-	// a file unlinked at once), so Loadings needs no half pass of its own
-	// (stash.go). Empty: Loadings makes its half pass.
+	// a file without a name where the system allows it, else one unlinked
+	// at once), so Loadings needs no half pass of its own (stash.go).
+	// Empty: Loadings makes its half pass.
 	LoadingsStash string
 }
 
@@ -206,9 +207,10 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 		edge = MPUpperEdgeScaled(trace, op.Dim(), op.Markers())
 	}
 	var sh *stash
-	if opt.LoadingsStash != "" {
-		// Without a stash Loadings makes its own half pass: a directory
-		// that cannot take one costs time, not the run.
+	if opt.LoadingsStash != "" && !opt.ExactPasses && !op.float {
+		// Only a run of fast passes ends on a refinement pass. Without a
+		// stash Loadings makes its own half pass: a directory that cannot
+		// take one costs time, not the run.
 		sh, _ = newStash(op, opt.LoadingsStash)
 	}
 	res, err := Solve(ctx, op, SolveOptions{K: opt.K, Oversample: opt.Oversample, Tol: opt.Tol,
@@ -388,9 +390,11 @@ func (r *PCAResult) Truncate(k int) {
 	s := mat.NewDense(n, k, nil)
 	s.Copy(r.Scores.Slice(0, n, 0, k))
 	r.Scores = s
+	// A new outer slice: the solver's last state (which a checkpoint
+	// writer may hold) shares the old one.
+	hist := make([][]float64, len(r.History))
 	for i, h := range r.History {
-		if len(h) > k {
-			r.History[i] = h[:k]
-		}
+		hist[i] = h[:min(k, len(h))]
 	}
+	r.History = hist
 }

@@ -282,6 +282,14 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			reason = stop
 			break
 		}
+		if st.RefineIn != nil {
+			// More passes after the refinement: its basis is no longer
+			// needed here (a copy, as a checkpoint writer may hold st), and
+			// the memory plan has no block for it.
+			c := *st
+			c.RefineIn, c.Rot = nil, nil
+			st = &c
+		}
 		prevVar = captured
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -332,7 +340,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		}
 	}
 	if s := opt.stash; s != nil && (s.pass != st.Pass || res.Basis == nil) {
-		s.pass = 0 // it holds an earlier pass (or none): unusable
+		s.discard() // it holds an earlier pass (or none)
 	}
 	return res, nil
 }

@@ -20,8 +20,10 @@ import (
 // resumed run, a cluster run, a failed write) Loadings computes Z U in a
 // half pass, with the same kernels, so the numbers are the same.
 //
-// The rows take M * l * 8 bytes of disk, not memory: the file is unlinked
-// as soon as it is made, so nothing is left behind by a crash.
+// The rows take M * l * 8 bytes of disk, not memory, in a file that has no
+// name (O_TMPFILE on Linux; elsewhere one unlinked as soon as it is made),
+// so nothing is left behind by a crash. A capture that fails, or that a
+// later pass makes stale, gives its disk back at once (discard).
 type stash struct {
 	op   *Operator
 	f    *os.File
@@ -100,7 +102,7 @@ func (s *stash) write(w []float64, nb, lp int) {
 	s.rows += nb
 }
 
-// finish ends a capture.
+// finish ends a capture; a failed one is discarded.
 func (s *stash) finish() {
 	if s.full == nil {
 		return
@@ -110,6 +112,18 @@ func (s *stash) finish() {
 		s.err = fmt.Errorf("loadings stash: %w", err)
 	}
 	s.full, s.free, s.done = nil, nil, nil
+	if s.err != nil {
+		s.discard()
+	}
+}
+
+// discard empties the file (its disk goes back now, not at Close) and
+// marks the stash unusable.
+func (s *stash) discard() {
+	s.pass = 0
+	if s.f != nil {
+		s.f.Truncate(0)
+	}
 }
 
 // usable says whether the stash holds, for op, Z times the basis of the

@@ -125,3 +125,105 @@ func TestLoadingsAgainstDense(t *testing.T) {
 		}
 	}
 }
+
+// loadingsVsDense runs Loadings and checks every value against gonum's
+// Z u_k / sqrt(M lambda_k) from the run's own scores, to 1e-12 of the
+// largest (as TestLoadingsAgainstDense); it returns the values in order.
+func loadingsVsDense(t *testing.T, op *Operator, res *PCAResult, z *mat.Dense) []float64 {
+	t.Helper()
+	m, _ := z.Dims()
+	var ref mat.Dense
+	ref.Mul(z, res.Scores)
+	var got []float64
+	var worst, top float64
+	err := Loadings(context.Background(), op, res, func(ord int, v []float64) error {
+		got = append(got, v...)
+		for k, x := range v {
+			want := ref.At(ord, k) / math.Sqrt(float64(m)*res.Eigenvalues[k])
+			worst = math.Max(worst, math.Abs(x-want))
+			top = math.Max(top, math.Abs(want))
+		}
+		return nil
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, k := res.Scores.Dims(); len(got) != m*k {
+		t.Fatalf("%d loadings, want %d x %d", len(got), m, k)
+	}
+	if worst > 1e-12*top {
+		t.Errorf("loadings differ from gonum's Z u / sqrt(M lambda) by %g (largest %g)", worst, top)
+	}
+	return got
+}
+
+// TestLoadingsStashCases covers the ways a run's loadings can be made:
+// after -k auto's Truncate (the rotation keeps the first k columns), a
+// second call after the stash was used (a half pass over the basis, bit
+// for bit the same), one and two threads (bit for bit), and a run whose
+// refinement pass is followed by more float64 passes (a tol below the
+// float32 floor: no rotation, the stash given back, a half pass over the
+// scores). The
+// reference is gonum's product, as above.
+func TestLoadingsStashCases(t *testing.T) {
+	st, geno := testCohort(t, 200, 1200, 3, 0.05, 0.02, 23, 100)
+	z := denseZ(geno, 200)
+	run := func(t *testing.T, opt PCAOptions) (*PCAResult, *Operator) {
+		t.Helper()
+		opt.Seed, opt.TW, opt.LoadingsStash = 4, "off", t.TempDir()
+		if opt.Threads == 0 {
+			opt.Threads = 2
+		}
+		res, op, err := RunPCA(context.Background(), st, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res, op
+	}
+	same := func(t *testing.T, what string, a, b []float64) {
+		t.Helper()
+		if len(a) != len(b) {
+			t.Fatalf("%s: %d and %d values", what, len(a), len(b))
+		}
+		for i := range a {
+			if a[i] != b[i] {
+				t.Fatalf("%s: value %d: %v and %v", what, i, a[i], b[i])
+			}
+		}
+	}
+	t.Run("truncated", func(t *testing.T) {
+		res, op := run(t, PCAOptions{K: 5})
+		res.Truncate(2)
+		if _, c := res.Rotation.Dims(); c != 2 {
+			t.Fatalf("rotation has %d columns after Truncate(2)", c)
+		}
+		loadingsVsDense(t, op, res, z)
+	})
+	t.Run("second call and threads", func(t *testing.T) {
+		res, op := run(t, PCAOptions{K: 4})
+		if !res.stash.usable(op, res.BlockSize) {
+			t.Fatal("no usable stash")
+		}
+		first := loadingsVsDense(t, op, res, z)
+		second := loadingsVsDense(t, op, res, z) // the stash is gone: a half pass
+		same(t, "stash then half pass", first, second)
+		res1, op1 := run(t, PCAOptions{K: 4, Threads: 1})
+		same(t, "1 and 2 threads", first, loadingsVsDense(t, op1, res1, z))
+	})
+	t.Run("passes after the refinement", func(t *testing.T) {
+		// A tol below the fast passes' floor: the fast phase stops on the
+		// bulk test, the refinement pass misses the tol, float64 passes
+		// follow.
+		res, op := run(t, PCAOptions{K: 4, Tol: 1e-10, MaxPasses: 14})
+		if res.Passes <= res.FastPasses+1 {
+			t.Fatalf("%d passes, %d fast, stop %s: want float64 passes after the refinement", res.Passes, res.FastPasses, res.StopReason)
+		}
+		if res.Rotation != nil || res.stash == nil || res.stash.pass != 0 {
+			t.Fatalf("rotation %v, stash %+v: want none and a discarded stash", res.Rotation != nil, res.stash)
+		}
+		if fi, err := res.stash.f.Stat(); err != nil || fi.Size() != 0 {
+			t.Errorf("discarded stash still holds %v bytes (%v)", fi.Size(), err)
+		}
+		loadingsVsDense(t, op, res, z)
+	})
+}

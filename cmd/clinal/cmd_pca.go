@@ -273,8 +273,8 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 			popt.Resume = state
 		}
 	}
-	// Each checkpoint is written while the next pass runs (the state is
-	// not changed after the callback); every return waits for the last.
+	// Each checkpoint is written while the next pass runs (Solve does not
+	// change a state after the callback); every return waits for the last.
 	var cw checkpointWriter
 	defer cw.wait()
 	popt.Checkpoint = func(s *randsvd.State) error { return cw.write(ckpt, key, s) }
@@ -294,6 +294,11 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		return nil, err
 	}
 	defer res.Close()
+	// The last checkpoint is complete before anything reads or trims the
+	// result (Truncate shortens the history the writer may still hold).
+	if err := cw.wait(); err != nil {
+		return nil, err
+	}
 	if len(outl.removed) > 0 {
 		fmt.Fprintf(e.stderr, "pca: removed %d outlier samples (beyond %g SD on the top %d PCs); their scores come from projection\n",
 			len(outl.removed), o.outlierSD, o.outlierPCs)
@@ -303,9 +308,6 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		fmt.Fprintf(e.stderr, "pca: -k auto: %d of %d PCs significant at alpha %g (Tracy-Widom, n' %s)\n", k, o.k, o.twAlpha, res.TWMethod)
 		res.Truncate(k)
 		o.k = k
-	}
-	if err := cw.wait(); err != nil {
-		return nil, err
 	}
 	out, err := writePCAOutputsWith(ctx, e, st, op, res, sel, o, ph, t0, &outl)
 	if err == nil {
@@ -327,7 +329,13 @@ func (c *checkpointWriter) write(path, key string, s *randsvd.State) error {
 		return err
 	}
 	c.done = make(chan error, 1)
-	go func() { c.done <- randsvd.WriteCheckpoint(path, key, s) }()
+	go func() {
+		if err := randsvd.WriteCheckpoint(path, key, s); err != nil {
+			c.done <- fmt.Errorf("checkpoint after pass %d: %w", s.Pass, err)
+			return
+		}
+		c.done <- nil
+	}()
 	return nil
 }
 
@@ -409,10 +417,16 @@ func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *ra
 		f, err := htmlreport.RenderPCAFigures(rin)
 		figs <- drawn{f, err}
 	}()
+	var d drawn
+	received := false
+	defer func() {
+		if !received {
+			<-figs // an early return still waits for the drawing
+		}
+	}()
 	ph.start("loadings")
 	if !o.noLoadings {
 		if err := writeLoadings(ctx, o.out+".loadings.tsv.gz", st, op, res, sel); err != nil {
-			<-figs
 			return nil, err
 		}
 		out.files = append(out.files, o.out+".loadings.tsv.gz")
@@ -436,10 +450,9 @@ func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *ra
 	}
 	rows := spectrumRows(res)
 	if err := matrixio.WriteSpectrum(o.out+".spectrum.tsv", rows); err != nil {
-		<-figs
 		return nil, err
 	}
-	d := <-figs
+	d, received = <-figs, true
 	ph.stop()
 	if d.err != nil {
 		return nil, fmt.Errorf("report %s: %w", o.out+".report.html", d.err)

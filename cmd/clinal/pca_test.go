@@ -139,6 +139,39 @@ func TestPCACommandOutputs(t *testing.T) {
 	}
 }
 
+// TestPCAAutoK runs -k auto on two populations (one structured PC: the
+// Tracy-Widom test should keep one) and checks that every output has that
+// many PCs; under -race it also covers the trimming of a result whose last
+// checkpoint is written in the background.
+func TestPCAAutoK(t *testing.T) {
+	dir := t.TempDir()
+	store := writeTestStore(t, dir, 150, 600)
+	prefix := filepath.Join(dir, "auto")
+	code, _, stderr := runCmd(t, "pca", store, "-k", "auto", "--k-max", "6", "-o", prefix, "--seed", "3")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stderr, "-k auto: 1 of 6 PCs significant") {
+		t.Fatalf("stderr %q: want 1 of 6 PCs kept", stderr)
+	}
+	if h := strings.SplitN(readMaybeGz(t, prefix+".covariates.tsv"), "\n", 2)[0]; h != "sample_id\tPC1" {
+		t.Errorf("covariates header %q", h)
+	}
+	var rep struct {
+		Markers int `json:"markers_used"`
+	}
+	if err := json.Unmarshal([]byte(readMaybeGz(t, prefix+".report.json")), &rep); err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSpace(readMaybeGz(t, prefix+".loadings.tsv.gz")), "\n")
+	if h := lines[0]; !strings.HasSuffix(h, "\tscale\tPC1") || len(lines) != rep.Markers+1 || rep.Markers < 100 {
+		t.Errorf("loadings: header %q and %d rows, want PC1 only and the %d markers used", h, len(lines)-1, rep.Markers)
+	}
+	if _, err := os.Stat(prefix + ".checkpoint"); !os.IsNotExist(err) {
+		t.Errorf("checkpoint left after a finished run: %v", err)
+	}
+}
+
 // TestPCABadUsage checks exit code 2 and a one-line error.
 func TestPCABadUsage(t *testing.T) {
 	dir := t.TempDir()
