@@ -342,3 +342,105 @@ func TestTW1TailAsymptote(t *testing.T) {
 		}
 	}
 }
+
+// TestOperatorDroppedSamplesMissing: with a sample mask, markers whose kept
+// samples are all called (their rows are not scanned for missing calls)
+// while dropped samples have missing calls there, and markers with missing
+// calls among the kept samples too. The operator over the kept samples must
+// match the dense K of the kept columns from gonum (denseK), exact to 1e-12
+// and fast to 1e-6 as in TestOperatorMatchesDense.
+func TestOperatorDroppedSamplesMissing(t *testing.T) {
+	n, m := 150, 240
+	r := rand.New(rand.NewPCG(9, 9))
+	keep := make([]bool, n)
+	for i := range keep {
+		keep[i] = i%5 != 0
+	}
+	ids := make([]string, n)
+	for i := range ids {
+		ids[i] = "s" + itoa(i)
+	}
+	path := filepath.Join(t.TempDir(), "d.clinal")
+	w, err := matrixio.Create(path, ids, matrixio.WriterOptions{ChunkMarkers: 40})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var kept [][]byte
+	for j := 0; j < m; j++ {
+		p := 0.1 + 0.8*r.Float64()
+		g := make([]byte, n)
+		for i := range g {
+			for range 2 {
+				if r.Float64() < p {
+					g[i]++
+				}
+			}
+			// Even markers: missing calls on dropped samples only.
+			if (j%2 == 1 || !keep[i]) && r.Float64() < 0.1 {
+				g[i] = matrixio.Missing
+			}
+		}
+		if err := w.AddGenotypes(matrixio.Marker{Chrom: "1", Pos: int64(j + 1), ID: "m" + itoa(j), Ref: "A", Alt: "G"}, g); err != nil {
+			t.Fatal(err)
+		}
+		var gk []byte
+		for i, v := range g {
+			if keep[i] {
+				gk = append(gk, v)
+			}
+		}
+		kept = append(kept, gk)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	st, err := matrixio.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer st.Close()
+	counts, err := CountKept(context.Background(), st, keep, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	nk := len(kept[0])
+	ref := denseOp{denseK(kept, nk)}
+	l := 5
+	x := make([]float64, nk*l)
+	for i := range x {
+		x[i] = r.NormFloat64()
+	}
+	want := make([]float64, len(x))
+	ref.Apply(context.Background(), x, want, l)
+	op, err := NewOperator(st, OperatorOptions{Threads: 2, SampleKept: keep, Counts: counts})
+	if err != nil {
+		t.Fatal(err)
+	}
+	complete := 0
+	for ord := range op.markers {
+		if op.complete[ord/64]&(1<<(ord%64)) != 0 {
+			complete++
+		}
+	}
+	if complete != m/2 {
+		t.Fatalf("%d markers without missing calls among the kept samples, want %d", complete, m/2)
+	}
+	for _, fast := range []bool{false, true} {
+		got := make([]float64, len(x))
+		if err := op.apply(context.Background(), x, got, l, fast); err != nil {
+			t.Fatal(err)
+		}
+		var dn, wn, worst float64
+		for i := range got {
+			dn += (got[i] - want[i]) * (got[i] - want[i])
+			wn += want[i] * want[i]
+			worst = math.Max(worst, math.Abs(got[i]-want[i])/(1+math.Abs(want[i])))
+		}
+		if !fast && worst > 1e-12 {
+			t.Errorf("exact pass: largest difference %g from the dense K", worst)
+		}
+		if rel := math.Sqrt(dn / wn); fast && rel > 1e-6 {
+			t.Errorf("fast pass: relative error %g from the dense K", rel)
+		}
+	}
+}

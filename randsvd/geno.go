@@ -209,7 +209,11 @@ func (op *Operator) reduceJob(ws *workspace, r, t int) {
 	for q := r * reduceRange; q < min((r+1)*reduceRange, len(ws.sels)); q++ {
 		s := ws.sels[q]
 		k := len(buf)
-		buf = appendMissing(buf, ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], op.n)
+		if op.complete[s.ord/64]&(1<<(s.ord%64)) == 0 {
+			// (Missing calls of dropped samples may be listed or not:
+			// their rows of X are zero and their rows of Y unused.)
+			buf = appendMissing(buf, ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], op.n)
+		}
 		// (A buffer that grows leaves earlier lists in the old array,
 		// still valid; in the steady state it does not grow.)
 		ws.miss[q] = buf[k:len(buf):len(buf)]

@@ -85,6 +85,10 @@ type Operator struct {
 	markers []int32 // kept markers (store indices), ascending
 	center  []float64
 	scale   []float64
+	// complete has bit ord set when kept marker ord has no missing call
+	// among the kept samples (from the counts): its row is not scanned
+	// for them.
+	complete []uint64
 	chunks  []int
 	// chunkLo[c] is the first kept-marker ordinal of chunk c (len chunks
 	// of the store + 1): the kept markers of chunk c are
@@ -183,6 +187,7 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 	op.chunkLo = make([]int32, st.NumChunks()+1)
 	op.center = make([]float64, 0, nsel)
 	op.scale = make([]float64, 0, nsel)
+	op.complete = make([]uint64, (nsel+63)/64)
 	for j := 0; j < m; j++ {
 		if opt.MarkerKept != nil && !opt.MarkerKept[j] {
 			continue
@@ -223,6 +228,10 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		op.mTotal++
 		if inChunk != nil && !inChunk[st.ChunkOf(j)] {
 			continue
+		}
+		if c.Missing == 0 {
+			ord := len(op.markers)
+			op.complete[ord/64] |= 1 << (ord % 64)
 		}
 		op.markers = append(op.markers, int32(j))
 		op.center = append(op.center, mu)

@@ -109,11 +109,13 @@ def main():
         w = [r[0] for r in runs[m]]
         rows.append({"tool": "clinal pca -k 10", "samples": args.samples, "markers": m, "wall_s": med(w),
                      "wall_min_s": min(w), "wall_max_s": max(w), "peak_rss_bytes": max(r[1] for r in runs[m]),
+                     "peak_rss_median_bytes": med([r[1] for r in runs[m]]),
                      "passes": runs[m][-1][2], "stop": runs[m][-1][3]})
     w = [r[0] for r in sk_runs]
     rows.append({"tool": "sklearn randomized_svd f32 n_iter=4", "samples": args.samples, "markers": args.markers,
                  "wall_s": med(w), "wall_min_s": min(w), "wall_max_s": max(w),
-                 "peak_rss_bytes": max(r[1] for r in sk_runs), "passes": "", "stop": "compute only"})
+                 "peak_rss_bytes": max(r[1] for r in sk_runs), "peak_rss_median_bytes": med([r[1] for r in sk_runs]),
+                 "passes": "", "stop": "compute only"})
     ratios = [c[0] / s_[0] for c, s_ in zip(runs[args.markers], sk_runs)]
     judge = json.loads(subprocess.check_output(["/usr/bin/python3", "-c", JUDGE, npy,
                                                  os.path.join(args.out, f"clinal_{args.markers}.covariates.tsv"), sk_u]))
@@ -123,8 +125,8 @@ def main():
                  "markers": args.markers, "captured_variance": judge["exact_top10"]})
     os.remove(npy)
     path = os.path.join(ROOT, "benchmarks", "pca", "results.tsv")
-    cols = ["tool", "samples", "markers", "wall_s", "wall_min_s", "wall_max_s", "peak_rss_bytes", "passes", "stop",
-            "captured_variance"]
+    cols = ["tool", "samples", "markers", "wall_s", "wall_min_s", "wall_max_s", "peak_rss_bytes", "peak_rss_median_bytes",
+            "passes", "stop", "captured_variance"]
     with open(path, "w") as f:
         f.write("\t".join(cols) + "\n")
         for r in rows:
@@ -135,7 +137,9 @@ def main():
     print(f"clinal/sklearn wall (medians): {c['wall_s'] / s['wall_s']:.2f}x; peak RSS: {c['peak_rss_bytes'] / s['peak_rss_bytes']:.3f}x;"
           f" captured variance {c['captured_variance']:.6f} vs {s['captured_variance']:.6f}"
           f" ({c['captured_variance'] / judge['exact_top10']:.4f} and {s['captured_variance'] / judge['exact_top10']:.4f} of exact)")
-    print(f"clinal peak RSS at M={args.markers} vs M={args.markers // 10}: {rows[1]['peak_rss_bytes'] / rows[0]['peak_rss_bytes']:.3f}x")
+    print(f"clinal peak RSS at M={args.markers} vs M={args.markers // 10}: "
+          f"{rows[1]['peak_rss_median_bytes'] / rows[0]['peak_rss_median_bytes']:.3f}x (medians of the rounds), "
+          f"{rows[1]['peak_rss_bytes'] / rows[0]['peak_rss_bytes']:.3f}x (largest of each)")
 
 
 if __name__ == "__main__":
