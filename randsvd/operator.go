@@ -68,11 +68,15 @@ type OperatorOptions struct {
 	SampleKept []bool            // nil keeps all
 	MarkerKept []bool            // nil keeps all
 	Counts     []matrixio.Counts // per-marker counts over the kept samples; nil uses the store's
-	Scaling    Scaling           // default ScalePatterson
-	Threads    int               // compute goroutines (default 1)
-	Buffers    int               // chunk buffers in flight (default Threads+1)
-	Chunks     []int             // restrict the pass to these chunks (a shard); nil for all
-	Progress   func(done, total int)
+	// ForeignCounts says Counts standardize only and need not describe the
+	// kept samples (projection standardizes by the fit's counts): every row
+	// is then scanned for missing calls, even where Counts has none.
+	ForeignCounts bool
+	Scaling       Scaling // default ScalePatterson
+	Threads       int     // compute goroutines (default 1)
+	Buffers       int     // chunk buffers in flight (default Threads+1)
+	Chunks        []int   // restrict the pass to these chunks (a shard); nil for all
+	Progress      func(done, total int)
 }
 
 // Operator applies K = Z^T Z / M for the kept samples and markers of a
@@ -89,7 +93,7 @@ type Operator struct {
 	// among the kept samples (from the counts): its row is not scanned
 	// for them.
 	complete []uint64
-	chunks  []int
+	chunks   []int
 	// chunkLo[c] is the first kept-marker ordinal of chunk c (len chunks
 	// of the store + 1): the kept markers of chunk c are
 	// markers[chunkLo[c]:chunkLo[c+1]]. Selections are rebuilt from it per
@@ -229,7 +233,7 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		if inChunk != nil && !inChunk[st.ChunkOf(j)] {
 			continue
 		}
-		if c.Missing == 0 {
+		if c.Missing == 0 && !opt.ForeignCounts {
 			ord := len(op.markers)
 			op.complete[ord/64] |= 1 << (ord % 64)
 		}

@@ -216,7 +216,7 @@ func ProjectStoreSamples(ctx context.Context, st *matrixio.Store, res *PCAResult
 		counts = st.Counts()
 	}
 	op, err := NewOperator(st, OperatorOptions{SampleKept: sel, MarkerKept: popt.MarkerKept, Counts: counts,
-		Scaling: popt.Scaling, Threads: popt.Threads})
+		ForeignCounts: true, Scaling: popt.Scaling, Threads: popt.Threads})
 	if err != nil {
 		return nil, err
 	}
