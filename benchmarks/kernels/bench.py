@@ -14,9 +14,9 @@ in one run on one machine, with the floors under each:
 Also reports allocations per pass (steady state) and the 1-to-2-thread
 speed-ups. A pass is 4*N*M*l flops of dense arithmetic (design.md).
 
-usage: benchmarks/kernels/bench.py [--samples 5000] [--markers 50000] [--l 20]
+usage: benchmarks/kernels/bench.py [--samples 5000] [--markers 50000] [--l 20] [--rounds 5]
 """
-import argparse, json, os, subprocess, sys
+import argparse, json, os, statistics, subprocess, sys
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
@@ -50,6 +50,7 @@ def main():
     ap.add_argument("--markers", type=int, default=50000)
     ap.add_argument("--l", type=int, default=20)
     ap.add_argument("--reps", type=int, default=5)
+    ap.add_argument("--rounds", type=int, default=5, help="side-by-side rounds; medians are reported")
     ap.add_argument("--out", default=os.path.join(ROOT, "bench-out", "kernels"))
     args = ap.parse_args()
     os.makedirs(args.out, exist_ok=True)
@@ -64,39 +65,56 @@ def main():
     npy = os.path.join(args.out, "z.npy")
     if not os.path.exists(npy):
         subprocess.check_call([os.path.join(args.out, "dumpz"), st, npy])
-    res = {}
-    for th in (1, 2):
-        out = subprocess.check_output([os.path.join(args.out, "passbench"), "-l", str(args.l), "-threads", str(th),
-                                       "-reps", str(args.reps), st])
-        res[f"clinal_t{th}"] = json.loads(out)
+    # Rounds: clinal (1 and 2 threads) then numpy, back to back, so each
+    # round is a side-by-side measurement; medians over rounds damp a
+    # shared machine's noise.
     env = dict(os.environ, OPENBLAS_NUM_THREADS="2")
-    res["numpy"] = json.loads(subprocess.check_output(["/usr/bin/python3", "-c", NUMPY_CHILD, npy, str(args.l),
-                                                       str(args.reps)], env=env))
-    c1, c2, npy_r = res["clinal_t1"], res["clinal_t2"], res["numpy"]
+    rounds = []
+    for rnd in range(args.rounds):
+        res = {}
+        for th in (1, 2):
+            out = subprocess.check_output([os.path.join(args.out, "passbench"), "-l", str(args.l), "-threads", str(th),
+                                           "-reps", str(args.reps), st])
+            res[f"clinal_t{th}"] = json.loads(out)
+        res["numpy"] = json.loads(subprocess.check_output(["/usr/bin/python3", "-c", NUMPY_CHILD, npy, str(args.l),
+                                                           str(args.reps)], env=env))
+        rounds.append(res)
+        print(f"round {rnd + 1}: fast pass {res['clinal_t2']['FastSeconds']:.4f} s, numpy {res['numpy']['pass_seconds']:.4f} s, "
+              f"ratio {res['clinal_t2']['FastSeconds'] / res['numpy']['pass_seconds']:.3f}", flush=True)
+    med = statistics.median
+
+    def m(key, field):
+        return med([r[key][field] for r in rounds])
+    c2 = rounds[0]["clinal_t2"]
     flops = 4.0 * c2["Samples"] * c2["Markers"] * args.l
     rows = [
-        ("clinal fast pass, 2 threads", c2["FastSeconds"]),
-        ("clinal exact pass, 2 threads", c2["ExactSeconds"]),
-        ("clinal fast pass, 1 thread", c1["FastSeconds"]),
-        ("clinal exact pass, 1 thread", c1["ExactSeconds"]),
-        ("clinal stream-only (read + zstd), 2 threads", c2["StreamSeconds"]),
-        ("numpy float32 Z X and Z^T W (OpenBLAS, 2 threads)", npy_r["pass_seconds"]),
-        ("numpy memory floor (2 reads of Z)", npy_r["floor_seconds"]),
+        ("clinal fast pass, 2 threads", m("clinal_t2", "FastSeconds")),
+        ("clinal exact pass, 2 threads", m("clinal_t2", "ExactSeconds")),
+        ("clinal fast pass, 1 thread", m("clinal_t1", "FastSeconds")),
+        ("clinal exact pass, 1 thread", m("clinal_t1", "ExactSeconds")),
+        ("clinal stream-only (read + zstd), 2 threads", m("clinal_t2", "StreamSeconds")),
+        ("numpy float32 Z X and Z^T W (OpenBLAS, 2 threads)", m("numpy", "pass_seconds")),
+        ("numpy memory floor (2 reads of Z)", m("numpy", "floor_seconds")),
     ]
-    lines = ["what\tseconds\tGFLOP/s-equiv\tGgeno/s"]
-    for name, s in rows:
-        lines.append(f"{name}\t{s:.4f}\t{flops / s / 1e9:.1f}\t{c2['Samples'] * c2['Markers'] / s / 1e9:.2f}")
+    lines = ["what\tseconds (median of rounds)\tGFLOP/s-equiv\tGgeno/s"]
+    for name, sec in rows:
+        lines.append(f"{name}\t{sec:.4f}\t{flops / sec / 1e9:.1f}\t{c2['Samples'] * c2['Markers'] / sec / 1e9:.2f}")
     path = os.path.join(ROOT, "benchmarks", "kernels", "results.tsv")
     with open(path, "w") as f:
         f.write("\n".join(lines) + "\n")
     print("\n".join(lines))
-    print(f"\n{c2['Samples']} x {c2['Markers']}, l = {args.l}")
-    print(f"clinal fast pass / numpy pass: {c2['FastSeconds'] / npy_r['pass_seconds']:.2f}x; "
-          f"exact: {c2['ExactSeconds'] / npy_r['pass_seconds']:.2f}x")
-    print(f"speed-up 1 -> 2 threads: fast {c1['FastSeconds'] / c2['FastSeconds']:.2f}x, "
-          f"exact {c1['ExactSeconds'] / c2['ExactSeconds']:.2f}x")
+    ratio = lambda r, kind: r["clinal_t2"][kind] / r["numpy"]["pass_seconds"]
+    speed = lambda r, kind: r["clinal_t1"][kind] / r["clinal_t2"][kind]
+    print(f"\n{c2['Samples']} x {c2['Markers']}, l = {args.l}, {args.rounds} rounds")
+    fast = [ratio(r, "FastSeconds") for r in rounds]
+    exact = [ratio(r, "ExactSeconds") for r in rounds]
+    per = ", ".join(f"{x:.2f}" for x in fast)
+    print(f"clinal fast pass / numpy pass, per round: {per}; median {med(fast):.2f}x; exact: median {med(exact):.2f}x")
+    print(f"speed-up 1 -> 2 threads, median of rounds: fast {med([speed(r, 'FastSeconds') for r in rounds]):.2f}x, "
+          f"exact {med([speed(r, 'ExactSeconds') for r in rounds]):.2f}x")
     print(f"allocations per pass (2 threads): fast {c2['FastAllocs']:.0f} ({c2['FastBytes'] / 1024:.0f} KiB), "
           f"exact {c2['ExactAllocs']:.0f} ({c2['ExactBytes'] / 1024:.0f} KiB)")
+    res = {"rounds": rounds}
     json.dump(res, open(os.path.join(args.out, "raw.json"), "w"), indent=1)
 
 
