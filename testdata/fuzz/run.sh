@@ -28,6 +28,7 @@ targets=(
 	matrixio:FuzzStoreDeclared
 	qc:FuzzReadBED
 	qc:FuzzSampleList
+	randsvd:FuzzReadCheckpoint
 )
 
 log=$(mktemp)
