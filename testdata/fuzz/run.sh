@@ -43,6 +43,12 @@ for pt in "${targets[@]}"; do
 	if go test -run '^$' -fuzz "^${name}\$" -fuzztime "$dur" -fuzzminimizetime 50x \
 		-parallel "$par" "./$pkg" >"$log" 2>&1; then
 		result=ok
+	elif grep -q 'context deadline exceeded' "$log" && ! grep -q 'Failing input written' "$log"; then
+		# go test -fuzz can report "context deadline exceeded" when the time
+		# runs out while a worker is still on an input (seen on a loaded
+		# machine): no input failed and none was written, so it is not a
+		# finding.
+		result="ok (deadline)"
 	else
 		result=FAIL
 		status=1
