@@ -6,7 +6,7 @@ package main
 // agree). Rerun clinal bench on your own machine for a model of it.
 const defaultModelJSON = `{
   "comment": "clinal bench cost model; see benchmarks/scaling/README.md",
-  "created": "2026-12-02T05:45:28Z",
+  "created": "2026-12-02T11:58:24Z",
   "machine": {
     "cpu": "AMD EPYC",
     "cpus": 2,
@@ -18,8 +18,8 @@ const defaultModelJSON = `{
   "oversample": 0,
   "threads": 2,
   "passes_range": [
-    5,
-    8
+    6,
+    9
   ],
   "pca_flags": [
     "--tw",
@@ -35,67 +35,71 @@ const defaultModelJSON = `{
       "table_bytes"
     ],
     "coefficients": [
-      0,
-      2.858423206885965,
-      0.6162213543178179,
-      0.9878068129682733
+      2763006.2832456166,
+      1.7800898415156297,
+      0.49283128022305545,
+      0.4680295410277142
     ],
-    "max_relative_residual": 0.24130121223670664,
-    "leave_one_out_max_relative_error": 0.34643746386395113,
+    "max_relative_residual": 0.05159901932779698,
+    "leave_one_out_max_relative_error": 0.08375709267956988,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 106147840,
-      "predicted": 91436552.33471653,
-      "relative_error": -0.1385924354681496
+      "measured": 55275520,
+      "predicted": 55100738.98030465,
+      "relative_error": -0.0031619968422793576
     }
   },
   "wall": {
-    "formula": "wall_seconds = c0 + c_pass * N*M*l*passes/threads + c_once * N*M/threads + c_mk * M (l = k + oversample)",
+    "formula": "wall_seconds = c0 + c_pass * N*M*l*passes/threads + c_once * N*M/threads + c_mk * M + c_n * N (l = k + oversample)",
     "terms": [
       "1",
       "N*M*l*passes/threads",
       "N*M/threads",
-      "M"
+      "M",
+      "N"
     ],
     "coefficients": [
-      0.11638543335349318,
-      1.750820128712579e-10,
-      7.797189796096088e-9,
-      0.00001390154320816175
+      0.10659626571760848,
+      7.930980445843385e-11,
+      7.834434187075502e-9,
+      0.000005588820959798713,
+      0.000009452593175374769
     ],
-    "max_relative_residual": 0.30121027522962796,
-    "leave_one_out_max_relative_error": 0.2737212859035608,
+    "max_relative_residual": 0.24006602609848948,
+    "leave_one_out_max_relative_error": 0.2606314565421064,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 5.491912321,
-      "predicted": 5.301757631448625,
-      "relative_error": -0.03462449479105123
+      "measured": 3.068936568,
+      "predicted": 3.4532139406564375,
+      "relative_error": 0.12521515650187198
     }
   },
   "cpu": {
-    "formula": "cpu_seconds = d0 + d_pass * N*M*l*passes + d_once * N*M + d_mk * M",
+    "formula": "cpu_seconds = d0 + d_pass * N*M*l*passes + d_once * N*M + d_mk * M + d_n * N",
     "terms": [
       "1",
       "N*M*l*passes",
       "N*M",
-      "M"
+      "M",
+      "N"
     ],
     "coefficients": [
-      0.09409216377879087,
-      1.5994794455233236e-10,
-      5.823454778199986e-9,
-      0.000017966486426519304
+      0.14877978983183407,
+      7.213765850089399e-11,
+      6.051459035197183e-9,
+      0.000007472352834823013,
+      0.000016896815622295948
     ],
-    "max_relative_residual": 0.15677813540975583,
-    "leave_one_out_max_relative_error": 0.16056655284219135,
+    "max_relative_residual": 0.19439985710175967,
+    "leave_one_out_max_relative_error": 0.20799827051621644,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 9.06263,
-      "predicted": 8.538693494585605,
-      "relative_error": -0.05781285404064773
+      "measured": 5.096666,
+      "predicted": 5.618932161411652,
+      "relative_error": 0.10247211832434222
     }
   },
   "points": [
@@ -109,15 +113,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.400217474,
-      "pca_cpu_seconds": 0.575455,
-      "solve_wall_seconds": 0.234536967,
-      "solve_cpu_seconds": 0.354362,
-      "pca_peak_rss_bytes": 46911488,
+      "pca_wall_seconds": 0.258145531,
+      "pca_cpu_seconds": 0.399136,
+      "solve_wall_seconds": 0.096090554,
+      "solve_cpu_seconds": 0.14690200000000003,
+      "pca_peak_rss_bytes": 41287680,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 3096000,
-        "other_bytes": 83596998
+        "other_bytes": 68757507
       }
     },
     {
@@ -128,17 +132,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 6,
+      "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.62060611,
-      "pca_cpu_seconds": 0.909327,
-      "solve_wall_seconds": 0.309090787,
-      "solve_cpu_seconds": 0.49534700000000004,
-      "pca_peak_rss_bytes": 56127488,
+      "pca_wall_seconds": 0.411281233,
+      "pca_cpu_seconds": 0.636033,
+      "solve_wall_seconds": 0.159761289,
+      "solve_cpu_seconds": 0.27092700000000003,
+      "pca_peak_rss_bytes": 41164800,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 6096000,
-        "other_bytes": 83596998
+        "other_bytes": 68757507
       }
     },
     {
@@ -149,17 +153,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.142898522,
-      "pca_cpu_seconds": 1.6441919999999999,
-      "solve_wall_seconds": 0.490167613,
-      "solve_cpu_seconds": 0.732395,
-      "pca_peak_rss_bytes": 61370368,
+      "pca_wall_seconds": 0.674033433,
+      "pca_cpu_seconds": 1.035924,
+      "solve_wall_seconds": 0.243232048,
+      "solve_cpu_seconds": 0.402873,
+      "pca_peak_rss_bytes": 45023232,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 12096000,
-        "other_bytes": 83605839
+        "other_bytes": 68774487
       }
     },
     {
@@ -170,17 +174,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 2.363433878,
-      "pca_cpu_seconds": 3.205211,
-      "solve_wall_seconds": 0.910533324,
-      "solve_cpu_seconds": 1.566522,
-      "pca_peak_rss_bytes": 76427264,
+      "pca_wall_seconds": 1.296765326,
+      "pca_cpu_seconds": 1.9803739999999999,
+      "solve_wall_seconds": 0.462329629,
+      "solve_cpu_seconds": 0.7986239999999999,
+      "pca_peak_rss_bytes": 49602560,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 24096000,
-        "other_bytes": 83610720
+        "other_bytes": 68774487
       }
     },
     {
@@ -191,17 +195,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 6,
+      "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.55649077,
-      "pca_cpu_seconds": 0.7224,
-      "solve_wall_seconds": 0.293870974,
-      "solve_cpu_seconds": 0.41243700000000005,
-      "pca_peak_rss_bytes": 71405568,
+      "pca_wall_seconds": 0.360793514,
+      "pca_cpu_seconds": 0.56133,
+      "solve_wall_seconds": 0.160146056,
+      "solve_cpu_seconds": 0.248059,
+      "pca_peak_rss_bytes": 39137280,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 3192000,
-        "other_bytes": 96848329
+        "other_bytes": 63633623
       }
     },
     {
@@ -214,15 +218,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.02898192,
-      "pca_cpu_seconds": 1.417071,
-      "solve_wall_seconds": 0.538242547,
-      "solve_cpu_seconds": 0.7577329999999999,
-      "pca_peak_rss_bytes": 80400384,
+      "pca_wall_seconds": 0.569183495,
+      "pca_cpu_seconds": 0.89959,
+      "solve_wall_seconds": 0.230582801,
+      "solve_cpu_seconds": 0.3844000000000001,
+      "pca_peak_rss_bytes": 42094592,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 6192000,
-        "other_bytes": 96848329
+        "other_bytes": 63640610
       }
     },
     {
@@ -233,17 +237,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.724081391,
-      "pca_cpu_seconds": 2.7172750000000003,
-      "solve_wall_seconds": 0.751961562,
-      "solve_cpu_seconds": 1.2804280000000001,
-      "pca_peak_rss_bytes": 90480640,
+      "pca_wall_seconds": 1.0325539479999999,
+      "pca_cpu_seconds": 1.6438119999999998,
+      "solve_wall_seconds": 0.435180462,
+      "solve_cpu_seconds": 0.7472660000000001,
+      "pca_peak_rss_bytes": 43737088,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 12192000,
-        "other_bytes": 96866581
+        "other_bytes": 63650756
       }
     },
     {
@@ -254,17 +258,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 3.51221016,
-      "pca_cpu_seconds": 5.4437869999999995,
-      "solve_wall_seconds": 1.460275825,
-      "solve_cpu_seconds": 2.783629,
-      "pca_peak_rss_bytes": 100343808,
+      "pca_wall_seconds": 1.918084745,
+      "pca_cpu_seconds": 3.030067,
+      "solve_wall_seconds": 0.755018796,
+      "solve_cpu_seconds": 1.3280050000000003,
+      "pca_peak_rss_bytes": 51011584,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 24192000,
-        "other_bytes": 96877705
+        "other_bytes": 63650756
       }
     },
     {
@@ -275,17 +279,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 6,
+      "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.934536338,
-      "pca_cpu_seconds": 1.450062,
-      "solve_wall_seconds": 0.514979954,
-      "solve_cpu_seconds": 0.8301130000000001,
-      "pca_peak_rss_bytes": 82243584,
+      "pca_wall_seconds": 0.626546267,
+      "pca_cpu_seconds": 1.004541,
+      "solve_wall_seconds": 0.306423577,
+      "solve_cpu_seconds": 0.5013110000000001,
+      "pca_peak_rss_bytes": 44789760,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 3384000,
-        "other_bytes": 87877361
+        "other_bytes": 64610593
       }
     },
     {
@@ -296,17 +300,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.377700197,
-      "pca_cpu_seconds": 2.316413,
-      "solve_wall_seconds": 0.714609815,
-      "solve_cpu_seconds": 1.249915,
-      "pca_peak_rss_bytes": 84705280,
+      "pca_wall_seconds": 0.897417503,
+      "pca_cpu_seconds": 1.445807,
+      "solve_wall_seconds": 0.375277081,
+      "solve_cpu_seconds": 0.6614590000000001,
+      "pca_peak_rss_bytes": 46227456,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 6384000,
-        "other_bytes": 87879698
+        "other_bytes": 64615291
       }
     },
     {
@@ -317,17 +321,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 2.552693319,
-      "pca_cpu_seconds": 4.296543,
-      "solve_wall_seconds": 1.261941221,
-      "solve_cpu_seconds": 2.294431,
-      "pca_peak_rss_bytes": 90353664,
+      "pca_wall_seconds": 1.654024191,
+      "pca_cpu_seconds": 2.743125,
+      "solve_wall_seconds": 0.722854058,
+      "solve_cpu_seconds": 1.3167740000000001,
+      "pca_peak_rss_bytes": 48640000,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 12384000,
-        "other_bytes": 87945644
+        "other_bytes": 64619842
       }
     },
     {
@@ -338,17 +342,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 5.491912321,
-      "pca_cpu_seconds": 9.06263,
-      "solve_wall_seconds": 2.528265835,
-      "solve_cpu_seconds": 4.73992,
-      "pca_peak_rss_bytes": 106147840,
+      "pca_wall_seconds": 3.068936568,
+      "pca_cpu_seconds": 5.096666,
+      "solve_wall_seconds": 1.293674835,
+      "solve_cpu_seconds": 2.410319,
+      "pca_peak_rss_bytes": 55275520,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 24384000,
-        "other_bytes": 87945644
+        "other_bytes": 64619842
       }
     },
     {
@@ -361,15 +365,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.984780178,
-      "pca_cpu_seconds": 1.525096,
-      "solve_wall_seconds": 0.703204788,
-      "solve_cpu_seconds": 1.079932,
-      "pca_peak_rss_bytes": 93413376,
+      "pca_wall_seconds": 0.65260128,
+      "pca_cpu_seconds": 1.020356,
+      "solve_wall_seconds": 0.32150415,
+      "solve_cpu_seconds": 0.5220670000000001,
+      "pca_peak_rss_bytes": 58765312,
       "plan": {
         "solver_bytes": 10240000,
         "table_bytes": 2268000,
-        "other_bytes": 82837586
+        "other_bytes": 68340756
       }
     },
     {
@@ -380,17 +384,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 7,
+      "passes": 8,
       "repeats": 5,
-      "pca_wall_seconds": 1.077357227,
-      "pca_cpu_seconds": 1.503347,
-      "solve_wall_seconds": 0.887550598,
-      "solve_cpu_seconds": 1.240895,
-      "pca_peak_rss_bytes": 117092352,
+      "pca_wall_seconds": 0.897827825,
+      "pca_cpu_seconds": 1.417017,
+      "solve_wall_seconds": 0.492255634,
+      "solve_cpu_seconds": 0.773554,
+      "pca_peak_rss_bytes": 80908288,
       "plan": {
         "solver_bytes": 20480000,
         "table_bytes": 2286000,
-        "other_bytes": 93576368
+        "other_bytes": 77691277
       }
     },
     {
@@ -401,17 +405,17 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 8,
+      "passes": 9,
       "repeats": 5,
-      "pca_wall_seconds": 2.266134875,
-      "pca_cpu_seconds": 3.1073540000000004,
-      "solve_wall_seconds": 2.000871928,
-      "solve_cpu_seconds": 2.736142,
-      "pca_peak_rss_bytes": 166105088,
+      "pca_wall_seconds": 1.6692092459999999,
+      "pca_cpu_seconds": 2.68062,
+      "solve_wall_seconds": 1.030591379,
+      "solve_cpu_seconds": 1.574157,
+      "pca_peak_rss_bytes": 121151488,
       "plan": {
         "solver_bytes": 40960000,
         "table_bytes": 3822000,
-        "other_bytes": 110689482
+        "other_bytes": 97018546
       }
     },
     {
@@ -422,19 +426,18 @@ const defaultModelJSON = `{
       "k": 10,
       "block_size": 20,
       "threads": 2,
-      "passes": 5,
+      "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 4.155927253,
-      "pca_cpu_seconds": 6.599133,
-      "solve_wall_seconds": 1.888182124,
-      "solve_cpu_seconds": 3.412988,
-      "pca_peak_rss_bytes": 93827072,
+      "pca_wall_seconds": 2.543686453,
+      "pca_cpu_seconds": 3.886908,
+      "solve_wall_seconds": 0.866169852,
+      "solve_cpu_seconds": 1.493905,
+      "pca_peak_rss_bytes": 61710336,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 48096000,
-        "other_bytes": 83613138
+        "other_bytes": 68774487
       }
     }
   ]
-}
-`
+}`

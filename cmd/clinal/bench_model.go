@@ -70,8 +70,8 @@ type machineInfo struct {
 // benchModel is bench-model.json: the cost model fitted to a bench run.
 //
 //	memory: peak RSS = a + b_s * solver + b_o * other + b_t * tables
-//	wall:   seconds  = c0 + c_pass * N*M*l*passes/threads + c_once * N*M/threads + c_mk * M
-//	CPU:    seconds  = d0 + d_pass * N*M*l*passes + d_once * N*M + d_mk * M
+//	wall:   seconds  = c0 + c_pass * N*M*l*passes/threads + c_once * N*M/threads + c_mk * M + c_n * N
+//	CPU:    seconds  = d0 + d_pass * N*M*l*passes + d_once * N*M + d_mk * M + d_n * N
 //
 // solver, other and tables are the parts of randsvd.PlanMemory's budget
 // (planParts), l = k + oversample the solver's block. A pass is one
@@ -79,9 +79,11 @@ type machineInfo struct {
 // performance model), so its cost goes with N*M*l; the per-pass
 // coefficients are fitted to the solve phase of report.json, the one-off
 // ones to the rest of the run, each with its own intercept (c0 and d0 are
-// their sums). The one-off work is a pass over the genotypes (QC recount,
-// loadings: N*M) and per-marker work (marker tables, formatting the
-// loadings file: M), the latter taken as not sped up by threads.
+// their sums). The one-off work is a pass over the genotypes (QC recount;
+// loadings when the run has no refinement stash: N*M), per-marker work
+// (marker tables, formatting the loadings file: M) and per-sample work
+// (the covariate file and the report's plots: N), the last two taken as
+// not sped up by threads.
 type benchModel struct {
 	Comment     string       `json:"comment"`
 	Created     string       `json:"created"`
@@ -171,9 +173,12 @@ func memTerms(p planParts) []float64 {
 	return []float64{1, float64(p.Solver), float64(p.Other), float64(p.Tables)}
 }
 
+// The per-sample term carries the outputs that grow with N alone (the
+// covariate file, the report's scatter plots of up to 50,000 samples);
+// models written before it had four terms and read with c_n = 0.
 func wallTerms(n, m, l, passes, threads int) []float64 {
 	nm := float64(n) * float64(m) / float64(threads)
-	return []float64{1, nm * float64(l) * float64(passes), nm, float64(m)}
+	return []float64{1, nm * float64(l) * float64(passes), nm, float64(m), float64(n)}
 }
 
 func cpuTerms(n, m, l, passes int) []float64 { return wallTerms(n, m, l, passes, 1) }
@@ -313,15 +318,15 @@ func fitStats(f *linFit, x [][]float64, y []float64, pts []benchPoint, fit func(
 }
 
 // fitSplit fits a time model y = c0 + c_pass*x_pass + c_once*x_once +
-// c_mk*x_mk from the solve phase (c_pass) and the rest of the run (c_once,
-// c_mk), each with an intercept.
+// c_mk*x_mk + c_n*x_n from the solve phase (c_pass) and the rest of the
+// run (c_once, c_mk, c_n), each with an intercept.
 func fitSplit(x [][]float64, solve, rest []float64) func(idx []int) ([]float64, error) {
 	return func(idx []int) ([]float64, error) {
 		var xs, xr [][]float64
 		var ys, yr []float64
 		for _, i := range idx {
 			xs, ys = append(xs, []float64{1, x[i][1]}), append(ys, solve[i])
-			xr, yr = append(xr, []float64{1, x[i][2], x[i][3]}), append(yr, rest[i])
+			xr, yr = append(xr, []float64{1, x[i][2], x[i][3], x[i][4]}), append(yr, rest[i])
 		}
 		cs, err := wls(xs, ys)
 		if err != nil {
@@ -331,7 +336,7 @@ func fitSplit(x [][]float64, solve, rest []float64) func(idx []int) ([]float64, 
 		if err != nil {
 			return nil, err
 		}
-		return []float64{cs[0] + cr[0], cs[1], cr[1], cr[2]}, nil
+		return []float64{cs[0] + cr[0], cs[1], cr[1], cr[2], cr[3]}, nil
 	}
 }
 
@@ -359,13 +364,13 @@ func fitModel(m *benchModel) error {
 	if err := fitStats(&m.Memory, xm, ym, pts, func(idx []int) ([]float64, error) { return wls(pick(xm, ym, idx)) }); err != nil {
 		return fmt.Errorf("bench memory model: %w", err)
 	}
-	m.Wall = linFit{Formula: "wall_seconds = c0 + c_pass * N*M*l*passes/threads + c_once * N*M/threads + c_mk * M (l = k + oversample)",
-		Terms: []string{"1", "N*M*l*passes/threads", "N*M/threads", "M"}}
+	m.Wall = linFit{Formula: "wall_seconds = c0 + c_pass * N*M*l*passes/threads + c_once * N*M/threads + c_mk * M + c_n * N (l = k + oversample)",
+		Terms: []string{"1", "N*M*l*passes/threads", "N*M/threads", "M", "N"}}
 	if err := fitStats(&m.Wall, xw, yw, pts, fitSplit(xw, sw, rw)); err != nil {
 		return fmt.Errorf("bench wall-time model: %w", err)
 	}
-	m.CPU = linFit{Formula: "cpu_seconds = d0 + d_pass * N*M*l*passes + d_once * N*M + d_mk * M",
-		Terms: []string{"1", "N*M*l*passes", "N*M", "M"}}
+	m.CPU = linFit{Formula: "cpu_seconds = d0 + d_pass * N*M*l*passes + d_once * N*M + d_mk * M + d_n * N",
+		Terms: []string{"1", "N*M*l*passes", "N*M", "M", "N"}}
 	if err := fitStats(&m.CPU, xc, yc, pts, fitSplit(xc, sc, rc)); err != nil {
 		return fmt.Errorf("bench CPU-time model: %w", err)
 	}
@@ -415,7 +420,7 @@ func (m *benchModel) predict(n, mk, k, threads, passes int, plan planParts) fore
 	f.MemoryHi = f.Memory * (1 + f.MemErr)
 	t := wallTerms(n, mk, f.BlockSize, passes, threads)
 	f.PerPass = m.Wall.Coef[1] * t[1] / float64(max(passes, 1))
-	f.Once = m.Wall.Coef[2]*t[2] + m.Wall.Coef[3]*t[3]
+	f.Once = dot(m.Wall.Coef[2:], t[2:])
 	f.Wall = dot(m.Wall.Coef, t)
 	f.WallErr = m.Wall.halfWidth()
 	f.WallLo, f.WallHi = f.Wall*(1-f.WallErr), f.Wall*(1+f.WallErr)
@@ -439,8 +444,9 @@ func parseModel(name string, b []byte) (*benchModel, error) {
 	if err := json.Unmarshal(b, &m); err != nil {
 		return nil, matrixio.BadInput("%s: not a bench model: %v", name, err)
 	}
-	if len(m.Memory.Coef) != 4 || len(m.Wall.Coef) != 4 || len(m.CPU.Coef) != 4 || m.K < 1 || m.Threads < 1 || len(m.Points) == 0 {
-		return nil, matrixio.BadInput("%s: bench model lacks coefficients (memory %d of 4, wall %d of 4, CPU %d of 4), k, threads or points",
+	time := func(c []float64) bool { return len(c) == 4 || len(c) == 5 } // 4: before the per-sample term
+	if len(m.Memory.Coef) != 4 || !time(m.Wall.Coef) || !time(m.CPU.Coef) || m.K < 1 || m.Threads < 1 || len(m.Points) == 0 {
+		return nil, matrixio.BadInput("%s: bench model lacks coefficients (memory %d of 4, wall %d of 5, CPU %d of 5), k, threads or points",
 			name, len(m.Memory.Coef), len(m.Wall.Coef), len(m.CPU.Coef))
 	}
 	return &m, nil

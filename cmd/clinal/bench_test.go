@@ -46,7 +46,7 @@ func TestWLSExact(t *testing.T) {
 		x    func(i int) []float64
 	}{
 		{"line", []float64{2, 3}, func(i int) []float64 { return []float64{1, float64(i + 1)} }},
-		{"time terms", []float64{0.2, 3e-10, 2e-8, 1e-6}, func(i int) []float64 {
+		{"time terms", []float64{0.2, 3e-10, 2e-8, 1e-6, 4e-6}, func(i int) []float64 {
 			n, m, p := 1000*(1+i%3), 5000*(1<<(i/3)), 5+i%4
 			return wallTerms(n, m, 20, p, 2)
 		}},
@@ -94,25 +94,25 @@ func TestWLSAgainstNumpy(t *testing.T) {
 	for i := range 15 {
 		n, m, p := 1000*(1+i%3), 2500*(1<<(i/3)), 5+i%4
 		xi := wallTerms(n, m, 20, p, 2)
-		yi := dot([]float64{0.3, 4e-10, 2e-8, 1e-6}, xi) * (1 + 0.1*r.NormFloat64())
+		yi := dot([]float64{0.3, 4e-10, 2e-8, 1e-6, 5e-6}, xi) * (1 + 0.1*r.NormFloat64())
 		x, y = append(x, xi), append(y, yi)
-		rows = append(rows, fmt.Sprintf("[%v,%v,%v,%v,%v]", xi[0], xi[1], xi[2], xi[3], yi))
+		rows = append(rows, fmt.Sprintf("[%v,%v,%v,%v,%v,%v]", xi[0], xi[1], xi[2], xi[3], xi[4], yi))
 	}
 	got, err := wls(x, y)
 	if err != nil {
 		t.Fatal(err)
 	}
 	script := "import numpy as np\nd=np.array([" + strings.Join(rows, ",") + "])\n" +
-		"A=d[:,:4]/d[:,4:5]\nc=np.linalg.lstsq(A,np.ones(len(d)),rcond=None)[0]\nprint(' '.join(repr(v) for v in c))\n"
+		"A=d[:,:5]/d[:,5:6]\nc=np.linalg.lstsq(A,np.ones(len(d)),rcond=None)[0]\nprint(' '.join(repr(v) for v in c))\n"
 	out, err := exec.Command(py, "-c", script).Output()
 	if err != nil {
 		t.Fatalf("python3: %v", err)
 	}
 	f := strings.Fields(string(out))
-	if len(f) != 4 {
+	if len(f) != 5 {
 		t.Fatalf("numpy printed %q", out)
 	}
-	for j := range 4 {
+	for j := range 5 {
 		want, _ := strconv.ParseFloat(f[j], 64)
 		if want < 0 {
 			t.Skipf("numpy's unconstrained coefficient %d is negative (%g); the non-negative fit differs by design", j, want)
@@ -249,6 +249,13 @@ func TestPredictFormula(t *testing.T) {
 		if math.Abs(c.got/c.want-1) > 1e-12 {
 			t.Errorf("%s: %g, want %g", c.name, c.got, c.want)
 		}
+	}
+	// The per-sample term (models written since it was added have five
+	// time coefficients; the four-term model above reads with c_n = 0).
+	m.Wall.Coef = append(m.Wall.Coef, 1e-5)
+	if f := m.predict(n, mk, k, thr, passes, p); math.Abs(f.Wall/(wantWall+1e-5*float64(n))-1) > 1e-12 ||
+		math.Abs(f.Once/(1e-8*float64(n)*float64(mk)/4+1e-6*float64(mk)+1e-5*float64(n))-1) > 1e-12 {
+		t.Errorf("five-term wall %g, once %g", f.Wall, f.Once)
 	}
 	// A model whose memory fit says less than the floor is lifted to it.
 	m.Memory.Coef = []float64{0, 0, 0, 0}

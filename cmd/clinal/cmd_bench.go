@@ -200,7 +200,7 @@ func doPredict(ctx context.Context, w io.Writer, o *benchOptions) error {
 	fmt.Fprintf(w, "               randsvd.PlanMemory's own estimate %s; the calibration runs (no --memory) peaked at %.2f-%.2fx theirs\n",
 		randsvd.FormatBytes(f.Plan.total()), lo, hi)
 	fmt.Fprintf(w, "  wall time    %s  (interval %s to %s)\n", formatSeconds(f.Wall), formatSeconds(f.WallLo), formatSeconds(f.WallHi))
-	fmt.Fprintf(w, "               %s per pass x %d passes + %s once (QC recount, loadings, per-marker output)\n",
+	fmt.Fprintf(w, "               %s per pass x %d passes + %s once (QC recount, loadings, per-marker and per-sample output)\n",
 		formatSeconds(f.PerPass), passes, formatSeconds(f.Once))
 	fmt.Fprintf(w, "  CPU time     %s  (interval %s to %s; %.1f core-hours)\n", formatSeconds(f.CPU), formatSeconds(f.CPULo),
 		formatSeconds(f.CPUHi), f.CPU/3600)
