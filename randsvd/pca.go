@@ -136,6 +136,9 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	// both kinds of table.
 	tabs := int64(tileGroups(int(lp)))*256*lp*8 + int64(tileGroups32(int(lp)))*256*lp*4
 	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + blockM*lp*4
+	// The loadings stash's two row buffers and its encoding buffer during
+	// the refinement pass (stash.go).
+	p.KernelBytes += 3 * blockM * lp * 8
 	if st.Codec() == matrixio.CodecGeno2 && int64(st.ChunkMarkers()) < target {
 		p.KernelBytes += target * rb
 	}
