@@ -108,35 +108,13 @@ func gammaDraw(r *rand.Rand, a float64) float64 {
 	}
 }
 
-// denseK builds K = Z^T Z / M in float64 directly from the genotype codes
-// with the Patterson et al. 2006 standardization (the reference the
+// denseK builds K = Z^T Z / M with gonum from denseZ (the reference the
 // operator must match).
 func denseK(geno [][]byte, n int) *mat.SymDense {
-	z := mat.NewDense(len(geno), n, nil)
-	m := 0
-	for _, g := range geno {
-		var s, c float64
-		for _, v := range g {
-			if v != matrixio.Missing {
-				s += float64(v)
-				c++
-			}
-		}
-		p := s / (2 * c)
-		sd := math.Sqrt(2 * p * (1 - p))
-		if !(sd > 1e-12) {
-			continue
-		}
-		for i, v := range g {
-			if v != matrixio.Missing {
-				z.Set(m, i, (float64(v)-2*p)/sd)
-			}
-		}
-		m++
-	}
-	zz := z.Slice(0, m, 0, n)
+	z := denseZ(geno, n)
+	m, _ := z.Dims()
 	k := mat.NewSymDense(n, nil)
-	k.SymOuterK(1/float64(m), zz.T())
+	k.SymOuterK(1/float64(m), z.T())
 	return k
 }
 

@@ -10,8 +10,9 @@ import (
 )
 
 // denseZ is the Patterson et al. 2006 standardized matrix (markers x
-// samples, missing calls 0, monomorphic markers dropped) built with gonum
-// from the genotype codes, as denseK.
+// samples, missing calls 0, monomorphic markers dropped) built in float64
+// directly from the genotype codes: the reference of denseK and of the
+// loadings tests.
 func denseZ(geno [][]byte, n int) *mat.Dense {
 	var rows [][]float64
 	for _, g := range geno {
@@ -82,34 +83,7 @@ func TestLoadingsAgainstDense(t *testing.T) {
 			if op.NumKeptMarkers() != m {
 				t.Fatalf("%d kept markers, dense reference has %d", op.NumKeptMarkers(), m)
 			}
-			var ref mat.Dense
-			ref.Mul(z, res.Scores)
-			seen := 0
-			var worst, top float64
-			err = Loadings(context.Background(), op, res, func(ord int, v []float64) error {
-				if ord != seen {
-					t.Fatalf("row %d came as ordinal %d", seen, ord)
-				}
-				seen++
-				got[tc.name] = append(got[tc.name], v...)
-				for k, x := range v {
-					want := ref.At(ord, k) / math.Sqrt(float64(m)*res.Eigenvalues[k])
-					worst = math.Max(worst, math.Abs(x-want))
-					top = math.Max(top, math.Abs(want))
-				}
-				return nil
-			})
-			if err != nil {
-				t.Fatal(err)
-			}
-			if seen != m {
-				t.Fatalf("%d loadings rows, want %d", seen, m)
-			}
-			// Float64 sums of 240 terms, reassociated: 1e-12 of the
-			// largest loading (common practice, no source).
-			if worst > 1e-12*top {
-				t.Errorf("loadings differ from gonum's Z u / sqrt(M lambda) by %g (largest %g)", worst, top)
-			}
+			got[tc.name] = loadingsVsDense(t, op, res, z)
 			if res.stash != nil {
 				t.Error("Loadings left the stash open")
 			}
@@ -136,7 +110,12 @@ func loadingsVsDense(t *testing.T, op *Operator, res *PCAResult, z *mat.Dense) [
 	ref.Mul(z, res.Scores)
 	var got []float64
 	var worst, top float64
+	seen := 0
 	err := Loadings(context.Background(), op, res, func(ord int, v []float64) error {
+		if ord != seen {
+			t.Fatalf("row %d came as ordinal %d", seen, ord)
+		}
+		seen++
 		got = append(got, v...)
 		for k, x := range v {
 			want := ref.At(ord, k) / math.Sqrt(float64(m)*res.Eigenvalues[k])
@@ -148,9 +127,11 @@ func loadingsVsDense(t *testing.T, op *Operator, res *PCAResult, z *mat.Dense) [
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, k := res.Scores.Dims(); len(got) != m*k {
-		t.Fatalf("%d loadings, want %d x %d", len(got), m, k)
+	if _, k := res.Scores.Dims(); seen != m || len(got) != m*k {
+		t.Fatalf("%d loadings rows of %d values, want %d x %d", seen, len(got), m, k)
 	}
+	// Float64 sums of a few hundred terms, reassociated: 1e-12 of the
+	// largest loading (common practice, no source).
 	if worst > 1e-12*top {
 		t.Errorf("loadings differ from gonum's Z u / sqrt(M lambda) by %g (largest %g)", worst, top)
 	}

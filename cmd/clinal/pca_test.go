@@ -139,8 +139,9 @@ func TestPCACommandOutputs(t *testing.T) {
 	}
 }
 
-// TestPCAAutoK runs -k auto on two populations (one structured PC: the
-// Tracy-Widom test should keep one) and checks that every output has that
+// TestPCAAutoK runs -k auto on two populations (one structured PC: k
+// populations give k-1 significant PCs under the Tracy-Widom test,
+// Patterson, Price & Reich 2006, from memory) and checks that every output has that
 // many PCs; under -race it also covers the trimming of a result whose last
 // checkpoint is written in the background.
 func TestPCAAutoK(t *testing.T) {
