@@ -1,5 +1,7 @@
 package randsvd
 
+import "encoding/binary"
+
 // Fast passes. The 2-bit kernels are bound by the bytes of table rows they
 // move per packed byte (l float64 values, 8 bytes each), not by
 // arithmetic. A fast pass keeps the group tables, the bucket sums and the
@@ -39,10 +41,10 @@ func addRows32Generic(dst, src, v []float32, rows, lp int) {
 	}
 }
 
-// gather32TileGeneric: for each marker q, acc = sum over t = 0..ng-1 in
-// order, from zero, in float32, of tab_t[byte g+t of its row]; then
+// gather32TileGeneric: for each row q, acc = sum over t = 0..ng-1 in
+// order, from zero, in float32, of tab_t[raw[offs[q]+g+t*stride]]; then
 // dst[q][k] += float64(acc[k]). The vector kernel's order.
-func gather32TileGeneric(dst []float64, tab []float32, raw []byte, offs []int32, g, ng, lp int) {
+func gather32TileGeneric(dst []float64, tab []float32, raw []byte, offs []int32, g, ng, stride, lp int) {
 	tb := 256 * lp
 	var stack [128]float32
 	acc := stack[:0]
@@ -53,8 +55,8 @@ func gather32TileGeneric(dst []float64, tab []float32, raw []byte, offs []int32,
 	}
 	for q, o := range offs {
 		clear(acc)
-		b := raw[int(o)+g : int(o)+g+ng]
-		for t, v := range b {
+		for t := range ng {
+			v := raw[int(o)+g+t*stride]
 			s := tab[t*tb+int(v)*lp : t*tb+int(v)*lp+lp]
 			for k := range acc {
 				acc[k] += s[k]
@@ -64,28 +66,6 @@ func gather32TileGeneric(dst []float64, tab []float32, raw []byte, offs []int32,
 		for k, a := range acc {
 			d[k] += float64(a)
 		}
-	}
-}
-
-// scatter32TileGeneric is scatterTileGeneric on float32 rows.
-func scatter32TileGeneric(buck, src []float32, raw []byte, offs []int32, g, ng, lp int) {
-	scatterTileGeneric(buck, src, raw, offs, g, ng, lp)
-}
-
-// marginal32Generic is marginalGeneric over float32 buckets: the sum
-// (E1 + O1) + 2 (E2 + O2) is formed in float32 and added to the float64
-// row y.
-func marginal32Generic(y []float64, buck []float32, l1, l2 *[64]uint8, lp int) {
-	for k := 0; k < lp; k++ {
-		var e1, o1, e2, o2 float32
-		for t := 0; t < 64; t += 2 {
-			e1 += buck[int(l1[t])*lp+k]
-			o1 += buck[int(l1[t+1])*lp+k]
-			e2 += buck[int(l2[t])*lp+k]
-			o2 += buck[int(l2[t+1])*lp+k]
-		}
-		a := e2 + o2
-		y[k] += float64((e1 + o1) + (a + a))
 	}
 }
 
@@ -103,7 +83,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 			for u := 0; u < nt; u++ {
 				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.x32, ws.scratch32[t*lp:(t+1)*lp], g+u, n, lp)
 			}
-			gather32Tile(part, tab, raw, offs, g, nt, lp)
+			gather32Tile(part, tab, raw, offs, g, nt, 1, lp)
 		}
 		return
 	}
@@ -114,44 +94,127 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 		for u := 0; u < nt; u++ {
 			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, ws.scratch[t*lp:(t+1)*lp], g+u, n, lp)
 		}
-		gatherTile(part, tab, raw, offs, g, nt, lp)
+		gatherTile(part, tab, raw, offs, g, nt, 1, lp)
 	}
 }
 
-// secondTiles runs the second product's tiles of one sample segment,
-// adding the bucket marginals of each sample to ws.y.
-func (op *Operator) secondTiles(ws *workspace, raw []byte, offs []int32, sg, t int) {
-	lp, n, segs := ws.lp, op.n, op.segs
-	start, end := segs[sg]/4, (segs[sg+1]+3)/4
+// secondTiles runs the second product for samples [a, b) (a a multiple
+// of 4) as a
+// gather, the first product's kernel on the transposed block: for a tile
+// of groups of four block markers, the group tables of W” (256 rows per
+// group, like the first product's tables of X) are built, the tile's
+// codes are transposed to one byte per sample and group (transposeTile),
+// and every sample of the segment adds the table rows of its bytes to its
+// row of ws.y. A gather reads table rows and writes each sample's row
+// once per tile; the scatter it replaces (bucket rows updated in place
+// per marker byte, then the buckets' marginals per sample) stalled on
+// repeated updates of the same bucket, which rare variants make common.
+func (op *Operator) secondTiles(ws *workspace, raw []byte, offs []int32, a, b, t int) {
+	lp, nb := ws.lp, len(ws.sels)
+	pa, pb := a/4, (b+3)/4
+	ngroups := (nb + 3) / 4
+	tb := ws.tbuf[t]
+	var ng int
 	if ws.fast {
-		buck := ws.tabs32[t]
-		ng := tileGroups32(lp)
-		for g := start; g < end; g += ng {
-			nt := min(ng, end-g)
-			clear(buck[:nt*256*lp])
-			scatter32Tile(buck, ws.wpp32, raw, offs, g, nt, lp)
+		ng = tileGroups32(lp)
+	} else {
+		ng = tileGroups(lp)
+	}
+	toffs := ws.toffs[:b-a]
+	for g := 0; g < ngroups; g += ng {
+		nt := min(ng, ngroups-g)
+		transposeTile(tb, raw, offs, nb, g, nt, ws.tstride, pa, pb)
+		if ws.fast {
+			tab := ws.tabs32[t]
 			for u := 0; u < nt; u++ {
-				bu := buck[u*256*lp : (u+1)*256*lp]
-				for s := 0; s < 4 && 4*(g+u)+s < n; s++ {
-					i := 4*(g+u) + s
-					marginal32(ws.y[i*lp:i*lp+lp], bu, &marginalIdx[s][0], &marginalIdx[s][1], lp)
-				}
+				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.wpp32, ws.scratch32[t*lp:(t+1)*lp], g+u, nb, lp)
+			}
+			gather32Tile(ws.y[a*lp:b*lp], tab, tb, toffs, 0, nt, ws.tstride, lp)
+			continue
+		}
+		tab := ws.tabs[t]
+		for u := 0; u < nt; u++ {
+			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.wpp, ws.scratch[t*lp:(t+1)*lp], g+u, nb, lp)
+		}
+		gatherTile(ws.y[a*lp:b*lp], tab, tb, toffs, 0, nt, ws.tstride, lp)
+	}
+}
+
+// The transposed block. For samples [a, b) and the groups of a tile, the
+// codes of group u (block markers 4u..4u+3) are one byte per sample, the
+// marker 4u+s in bits 2s, in a row of the buffer (ws.tstride bytes apart
+// from the next group's). Within each run of 32 samples, the byte of the
+// run's sample 4p+j is at position 8j+p: that is what shifting and masking
+// four 64-bit words of packed codes (32 samples of each of the four
+// markers) gives, eight bytes at a time (transposeTile), and the gather
+// reads a sample's bytes of successive groups tstride apart at the
+// offset transposedOffset.
+
+// transposedOffset is the position in a transposed row of the sample q
+// samples after the first.
+func transposedOffset(q int) int32 { return int32(q&^31 + 8*(q&3) + (q&31)>>2) }
+
+// transposeTile writes the transposed rows of the nt groups of block
+// markers starting at group g, for the samples of packed bytes [pa, pb),
+// into tb (rows stride bytes apart); markers past nb count as code 0.
+func transposeTile(tb, raw []byte, offs []int32, nb, g, nt, stride, pa, pb int) {
+	np := pb - pa
+	nfull := np / 8
+	for u := 0; u < nt; u++ {
+		q0 := 4 * (g + u)
+		var rows [4][]byte
+		for s := range 4 {
+			if q0+s < nb {
+				o := int(offs[q0+s])
+				rows[s] = raw[o+pa : o+pb]
+			} else {
+				rows[s] = zeroRow[:np]
 			}
 		}
-		return
-	}
-	buck := ws.tabs[t]
-	ng := tileGroups(lp)
-	for g := start; g < end; g += ng {
-		nt := min(ng, end-g)
-		clear(buck[:nt*256*lp])
-		scatterTile(buck, ws.wpp, raw, offs, g, nt, lp)
-		for u := 0; u < nt; u++ {
-			bu := buck[u*256*lp : (u+1)*256*lp]
-			for s := 0; s < 4 && 4*(g+u)+s < n; s++ {
-				i := 4*(g+u) + s
-				marginal(ws.y[i*lp:i*lp+lp], bu, &marginalIdx[s][0], &marginalIdx[s][1], lp)
+		r0, r1, r2, r3 := rows[0][:np], rows[1][:np], rows[2][:np], rows[3][:np]
+		out := tb[u*stride : u*stride+32*((np+7)/8)]
+		for k := 0; k < nfull; k++ {
+			transpose32(out[32*k:32*k+32],
+				binary.LittleEndian.Uint64(r0[8*k:8*k+8]), binary.LittleEndian.Uint64(r1[8*k:8*k+8]),
+				binary.LittleEndian.Uint64(r2[8*k:8*k+8]), binary.LittleEndian.Uint64(r3[8*k:8*k+8]))
+		}
+		if np > 8*nfull {
+			// The last, partial run of 32 samples, padded with code 0.
+			var w [4][8]byte
+			for s, r := range [4][]byte{r0, r1, r2, r3} {
+				copy(w[s][:], r[8*nfull:])
 			}
+			transpose32(out[32*nfull:32*nfull+32],
+				binary.LittleEndian.Uint64(w[0][:]), binary.LittleEndian.Uint64(w[1][:]),
+				binary.LittleEndian.Uint64(w[2][:]), binary.LittleEndian.Uint64(w[3][:]))
 		}
 	}
 }
+
+// transpose32 writes to d the transposed bytes of a run of 32 samples of
+// four markers, whose packed codes are w0..w3: byte 8j+p holds the codes
+// of sample 4p+j, marker s in bits 2s. Pairs of markers are interleaved
+// first (bits 2s..2s+1 of each nibble), then the nibbles of the pairs.
+func transpose32(d []byte, w0, w1, w2, w3 uint64) {
+	const (
+		m33 = 0x3333333333333333
+		mcc = 0xcccccccccccccccc
+		m0f = 0x0f0f0f0f0f0f0f0f
+		mf0 = 0xf0f0f0f0f0f0f0f0
+	)
+	// Per byte of p01: codes 0 and 2 of markers 0 and 1 (w0 c0, w1 c0,
+	// w0 c2, w1 c2); of q01: codes 1 and 3. Likewise p23, q23.
+	p01 := w0&m33 | (w1&m33)<<2
+	q01 := (w0>>2)&m33 | w1&mcc
+	p23 := w2&m33 | (w3&m33)<<2
+	q23 := (w2>>2)&m33 | w3&mcc
+	d = d[:32]
+	binary.LittleEndian.PutUint64(d[0:], p01&m0f|(p23&m0f)<<4)
+	binary.LittleEndian.PutUint64(d[8:], q01&m0f|(q23&m0f)<<4)
+	binary.LittleEndian.PutUint64(d[16:], (p01>>4)&m0f|p23&mf0)
+	binary.LittleEndian.PutUint64(d[24:], (q01>>4)&m0f|q23&mf0)
+}
+
+// zeroRow stands in for the rows of markers past the block's end in
+// transposeTile (at most secondRange/4 bytes are read).
+var zeroRow [secondRange / 4]byte

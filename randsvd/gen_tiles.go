@@ -4,19 +4,17 @@
 // for one column chunk of nv AVX2 vectors (4 float64 each), nv = 1..8.
 // Run with `go generate ./randsvd` (see kernels_amd64.go).
 //
-// gatherTileV<nv>(dst, tab, raw, offs, n, ng, lp): for each marker q < n the
-// nv vectors of dst row q are loaded into registers once, the ng group
-// tables are added in group order (tab + t*256*lp + v_t*lp with v_t the
-// byte raw[offs[q]+t]), and the row is stored once: element by element the
-// same sequence of additions as gatherTileGeneric.
+// gatherTileV<nv>(dst, tab, raw, offs, n, ng, lp, stride): for each row q <
+// n the nv vectors of dst row q are loaded into registers once, the ng
+// group tables are added in group order (tab + t*256*lp + v_t*lp with v_t
+// the byte raw[offs[q]+t*stride]), and the row is stored once: element by
+// element the same sequence of additions as gatherTileGeneric. The first
+// product reads a marker's packed row (stride 1), the second a sample's
+// bytes of the transposed block (transposeTile).
 //
-// scatterTileV<nv>(buck, src, raw, offs, n, ng, lp): for each marker q the
-// nv vectors of src row q are loaded once and added into bucket v_t of each
-// of the ng groups, markers in increasing order as scatterTileGeneric.
-//
-// gather32V<nv>T<t> and scatter32V<nv>T<t> are the float32 kernels of fast
-// passes (fast.go) for a chunk of nv vectors of 8 float32 and t tails of 4
-// (gather32TileGeneric, scatter32TileGeneric).
+// gather32V<nv>T<t> are the float32 kernels of fast passes (fast.go) for a
+// chunk of nv vectors of 8 float32 and t tails of 4, and gather32Z<nz>V<nv>T<t>
+// their AVX-512 twins with nz vectors of 16 first (gather32TileGeneric).
 //
 // sumRowsV<nv>(dst, x, idx, n, lp): dst = x[idx[0]] + x[idx[1]] + ... in
 // list order, from zero (sumRowsGeneric). addRowV<nv>(y, v, idx, n, lp):
@@ -43,10 +41,11 @@ func main() {
 		// Gather: two markers at a time (two independent addition chains,
 		// each in group order), then a last odd marker.
 		p("")
-		p("// func gatherTileV%d(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)", nv)
-		p("TEXT ·gatherTileV%d(SB), NOSPLIT, $0-56", nv)
+		p("// func gatherTileV%d(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)", nv)
+		p("TEXT ·gatherTileV%d(SB), NOSPLIT, $0-64", nv)
 		prologue(p, "dst", "tab")
-		p("\tLEAQ (DI)(R11*1), R15") // second marker's row
+		p("\tMOVQ stride+56(FP), R10") // R10: the byte stride (ng is reloaded from the frame)
+		p("\tLEAQ (DI)(R11*1), R15")   // second marker's row
 		p("\tCMPQ CX, $2")
 		p("\tJLT g%dsingle", nv)
 		p("g%dpair:", nv)
@@ -59,7 +58,7 @@ func main() {
 			p("\tVMOVUPD %d(R15), Y%d", 32*i, 8+i)
 		}
 		p("\tMOVQ SI, R13")
-		p("\tMOVQ R10, DX")
+		p("\tMOVQ ng+40(FP), DX")
 		p("g%dpinner:", nv)
 		p("\tMOVBQZX (BX), AX")
 		p("\tIMULQ R11, AX")
@@ -71,8 +70,8 @@ func main() {
 			p("\tVADDPD %d(AX), Y%d, Y%d", 32*i, i, i)
 			p("\tVADDPD %d(R12), Y%d, Y%d", 32*i, 8+i, 8+i)
 		}
-		p("\tINCQ BX")
-		p("\tINCQ R14")
+		p("\tADDQ R10, BX")
+		p("\tADDQ R10, R14")
 		p("\tMOVQ R11, R12")
 		p("\tSHLQ $8, R12")
 		p("\tADDQ R12, R13")
@@ -99,7 +98,7 @@ func main() {
 			p("\tVMOVUPD %d(DI), Y%d", 32*i, i)
 		}
 		p("\tMOVQ SI, R13")
-		p("\tMOVQ R10, DX")
+		p("\tMOVQ ng+40(FP), DX")
 		p("g%dinner:", nv)
 		p("\tMOVBQZX (BX), AX")
 		p("\tIMULQ R11, AX")
@@ -107,7 +106,7 @@ func main() {
 		for i := 0; i < nv; i++ {
 			p("\tVADDPD %d(AX), Y%d, Y%d", 32*i, i, i)
 		}
-		p("\tINCQ BX")
+		p("\tADDQ R10, BX")
 		p("\tADDQ R12, R13")
 		p("\tDECQ DX")
 		p("\tJNZ g%dinner", nv)
@@ -118,40 +117,6 @@ func main() {
 		p("\tVZEROUPPER")
 		p("\tRET")
 
-		// Scatter: DI is the bucket base, SI the source rows.
-		p("")
-		p("// func scatterTileV%d(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)", nv)
-		p("TEXT ·scatterTileV%d(SB), NOSPLIT, $0-56", nv)
-		prologue(p, "buck", "src")
-		p("s%dloop:", nv)
-		p("\tMOVLQSX (R9), AX")
-		p("\tLEAQ (R8)(AX*1), BX")
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD %d(SI), Y%d", 32*i, i)
-		}
-		p("\tMOVQ DI, R13")
-		p("\tMOVQ R10, DX")
-		p("s%dinner:", nv)
-		p("\tMOVBQZX (BX), AX")
-		p("\tIMULQ R11, AX")
-		p("\tADDQ R13, AX")
-		for i := 0; i < nv; i++ {
-			p("\tVADDPD %d(AX), Y%d, Y%d", 32*i, i, 8+i)
-		}
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD Y%d, %d(AX)", 8+i, 32*i)
-		}
-		p("\tINCQ BX")
-		p("\tADDQ R12, R13")
-		p("\tDECQ DX")
-		p("\tJNZ s%dinner", nv)
-		p("\tADDQ R11, SI")
-		p("\tADDQ $4, R9")
-		p("\tDECQ CX")
-		p("\tJNZ s%dloop", nv)
-		p("s%ddone:", nv)
-		p("\tVZEROUPPER")
-		p("\tRET")
 		// Row sums over an index list (the missing calls of a marker).
 		p("")
 		p("// func sumRowsV%d(dst, x *float64, idx *int32, n, lp int)", nv)
@@ -213,7 +178,20 @@ func main() {
 	for nv := 0; nv <= 4; nv++ {
 		for tail := 0; tail <= 1; tail++ {
 			if nv+tail > 0 {
-				gen32(p, nv, tail)
+				gen32(p, 0, nv, tail)
+			}
+		}
+	}
+	// AVX-512 variants for chunks of up to 32 floats: nz ZMM vectors, then
+	// at most one YMM and one XMM (fewer loads and adds per table row).
+	// (Not for scatters, which were slower with 512-bit stores.)
+	for nz := 1; nz <= 2; nz++ {
+		for nv := 0; nv <= 1; nv++ {
+			for tail := 0; tail <= 1; tail++ {
+				if nz == 2 && nv+tail > 0 {
+					continue
+				}
+				gen32(p, nz, nv, tail)
 			}
 		}
 	}
@@ -288,46 +266,63 @@ func prologue32(p func(string, ...any), a0, a1 string) {
 }
 
 // vec32 is one vector of a float32 row chunk: its byte offset in the
-// float32 row and whether it is a full 8-float YMM vector or a 4-float
-// XMM tail.
+// float32 row and its width in floats: 16 (a ZMM vector, AVX-512), 8 (YMM)
+// or 4 (an XMM tail).
 type vec32 struct {
-	off  int
-	full bool
+	off   int
+	width int
 }
 
-func vecs32(nv, tail int) []vec32 {
+// vecs32 lays out nz ZMM vectors, then nv YMM ones, then a tail of 4 if
+// tail is 1.
+func vecs32(nz, nv, tail int) []vec32 {
 	var v []vec32
+	off := 0
+	for i := 0; i < nz; i++ {
+		v = append(v, vec32{off, 16})
+		off += 64
+	}
 	for i := 0; i < nv; i++ {
-		v = append(v, vec32{32 * i, true})
+		v = append(v, vec32{off, 8})
+		off += 32
 	}
 	if tail == 1 {
-		v = append(v, vec32{32 * nv, false})
+		v = append(v, vec32{off, 4})
 	}
 	return v
 }
 
-// reg names register r as YMM for a full vector, XMM for a tail.
+// reg names register r as ZMM, YMM or XMM by the vector's width.
 func (v vec32) reg(r int) string {
-	if v.full {
+	switch v.width {
+	case 16:
+		return fmt.Sprintf("Z%d", r)
+	case 8:
 		return fmt.Sprintf("Y%d", r)
 	}
 	return fmt.Sprintf("X%d", r)
 }
 
-// gen32 writes gather32V<nv>T<tail> and scatter32V<nv>T<tail>: the
-// float32 kernels of fast passes for a row chunk of nv full vectors and an
-// optional 4-float tail (rows are multiples of 4 floats). The gather goes
+// gen32 writes gather32V<nv>T<tail> (gather32Z<nz>V<nv>T<tail> with nz
+// ZMM vectors first): the float32 kernel of fast passes for a row chunk of
+// nv full vectors and an optional 4-float tail (rows are multiples of 4
+// floats). The gather goes
 // two markers at a time, sums a marker's tile in float32 from zero, then
 // widens the sums and adds them to its float64 row.
-func gen32(p func(string, ...any), nv, tail int) {
-	vs := vecs32(nv, tail)
+func gen32(p func(string, ...any), nz, nv, tail int) {
+	vs := vecs32(nz, nv, tail)
 	k := len(vs)
 	name := fmt.Sprintf("V%dT%d", nv, tail)
 	lbl := fmt.Sprintf("h%d%d", nv, tail)
+	if nz > 0 {
+		name = fmt.Sprintf("Z%dV%dT%d", nz, nv, tail)
+		lbl = fmt.Sprintf("hz%d%d%d", nz, nv, tail)
+	}
 	p("")
-	p("// func gather32%s(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)", name)
-	p("TEXT ·gather32%s(SB), NOSPLIT, $0-56", name)
+	p("// func gather32%s(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)", name)
+	p("TEXT ·gather32%s(SB), NOSPLIT, $0-64", name)
 	prologue32(p, "dst", "tab")
+	p("\tMOVQ stride+56(FP), R10") // R10: the byte stride (ng is reloaded from the frame)
 	p("\tCMPQ CX, $2")
 	p("\tJLT %ssingle", lbl)
 	p("%spair:", lbl)
@@ -339,7 +334,7 @@ func gen32(p func(string, ...any), nv, tail int) {
 		p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
 	}
 	p("\tMOVQ SI, R13")
-	p("\tMOVQ R10, DX")
+	p("\tMOVQ ng+40(FP), DX")
 	p("%spinner:", lbl)
 	p("\tMOVBQZX (BX), AX")
 	p("\tIMULQ R11, AX")
@@ -351,8 +346,8 @@ func gen32(p func(string, ...any), nv, tail int) {
 		p("\tVADDPS %d(AX), %s, %s", v.off, v.reg(i), v.reg(i))
 		p("\tVADDPS %d(R15), %s, %s", v.off, v.reg(k+i), v.reg(k+i))
 	}
-	p("\tINCQ BX")
-	p("\tINCQ R14")
+	p("\tADDQ R10, BX")
+	p("\tADDQ R10, R14")
 	p("\tADDQ R12, R13")
 	p("\tDECQ DX")
 	p("\tJNZ %spinner", lbl)
@@ -375,7 +370,7 @@ func gen32(p func(string, ...any), nv, tail int) {
 		p("\tVXORPS Y%d, Y%d, Y%d", i, i, i)
 	}
 	p("\tMOVQ SI, R13")
-	p("\tMOVQ R10, DX")
+	p("\tMOVQ ng+40(FP), DX")
 	p("%sinner:", lbl)
 	p("\tMOVBQZX (BX), AX")
 	p("\tIMULQ R11, AX")
@@ -383,46 +378,12 @@ func gen32(p func(string, ...any), nv, tail int) {
 	for i, v := range vs {
 		p("\tVADDPS %d(AX), %s, %s", v.off, v.reg(i), v.reg(i))
 	}
-	p("\tINCQ BX")
+	p("\tADDQ R10, BX")
 	p("\tADDQ R12, R13")
 	p("\tDECQ DX")
 	p("\tJNZ %sinner", lbl)
 	widen(p, vs, 0, "DI")
 	p("%sdone:", lbl)
-	p("\tVZEROUPPER")
-	p("\tRET")
-
-	lbl = fmt.Sprintf("t%d%d", nv, tail)
-	p("")
-	p("// func scatter32%s(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)", name)
-	p("TEXT ·scatter32%s(SB), NOSPLIT, $0-56", name)
-	prologue32(p, "buck", "src")
-	p("%sloop:", lbl)
-	p("\tMOVLQSX (R9), AX")
-	p("\tLEAQ (R8)(AX*1), BX")
-	for i, v := range vs {
-		p("\tVMOVUPS %d(SI), %s", v.off, v.reg(i))
-	}
-	p("\tMOVQ DI, R13")
-	p("\tMOVQ R10, DX")
-	p("%sinner:", lbl)
-	p("\tMOVBQZX (BX), AX")
-	p("\tIMULQ R11, AX")
-	p("\tADDQ R13, AX")
-	for i, v := range vs {
-		p("\tVADDPS %d(AX), %s, %s", v.off, v.reg(i), v.reg(8+i))
-	}
-	for i, v := range vs {
-		p("\tVMOVUPS %s, %d(AX)", v.reg(8+i), v.off)
-	}
-	p("\tINCQ BX")
-	p("\tADDQ R12, R13")
-	p("\tDECQ DX")
-	p("\tJNZ %sinner", lbl)
-	p("\tADDQ R11, SI")
-	p("\tADDQ $4, R9")
-	p("\tDECQ CX")
-	p("\tJNZ %sloop", lbl)
 	p("\tVZEROUPPER")
 	p("\tRET")
 }
@@ -433,10 +394,23 @@ func gen32(p func(string, ...any), nv, tail int) {
 func widen(p func(string, ...any), vs []vec32, first int, base string) {
 	for i, v := range vs {
 		r := first + i
+		switch v.width {
+		case 16:
+			// Low eight floats, then the high eight (VEXTRACTF64X4 moves
+			// bits; it is AVX512F, unlike VEXTRACTF32X8).
+			p("\tVCVTPS2PD Y%d, Z14", r)
+			p("\tVADDPD %d(%s), Z14, Z14", 2*v.off, base)
+			p("\tVMOVUPD Z14, %d(%s)", 2*v.off, base)
+			p("\tVEXTRACTF64X4 $1, Z%d, Y15", r)
+			p("\tVCVTPS2PD Y15, Z15")
+			p("\tVADDPD %d(%s), Z15, Z15", 2*v.off+64, base)
+			p("\tVMOVUPD Z15, %d(%s)", 2*v.off+64, base)
+			continue
+		}
 		p("\tVCVTPS2PD X%d, Y14", r)
 		p("\tVADDPD %d(%s), Y14, Y14", 2*v.off, base)
 		p("\tVMOVUPD Y14, %d(%s)", 2*v.off, base)
-		if !v.full {
+		if v.width == 4 {
 			continue
 		}
 		p("\tVEXTRACTF128 $1, Y%d, X15", r)

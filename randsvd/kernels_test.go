@@ -27,6 +27,19 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		slices.Sort(offs) // ascending, as rowOffsets builds them (repeats allowed)
 		ng := 1 + r.IntN(min(12, rowBytes))
 		g := r.IntN(rowBytes - ng + 1)
+		// A marker's packed row (stride 1, the first product) or a
+		// transposed block (rows of groups stride bytes apart, the second);
+		// the bytes read stay inside raw either way.
+		stride := 1
+		if trial%2 == 1 {
+			stride = 1 + r.IntN(rowBytes)
+			g = 0
+			ng = 1 + r.IntN(4)
+			for q := range offs {
+				offs[q] = int32(r.IntN(len(raw) - (ng-1)*stride))
+			}
+			slices.Sort(offs)
+		}
 		tab := make([]float64, ng*256*lp)
 		for i := range tab {
 			tab[i] = r.NormFloat64()
@@ -41,8 +54,7 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			outLen     int
 		}
 		ks := []kern{
-			{"gatherTile", func(a []float64) { gatherTile(a, tab, raw, offs, g, ng, lp) }, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, lp) }, nq * lp},
-			{"scatterTile", func(a []float64) { scatterTile(a, src, raw, offs, g, ng, lp) }, func(a []float64) { scatterTileGeneric(a, src, raw, offs, g, ng, lp) }, ng * 256 * lp},
+			{"gatherTile", func(a []float64) { gatherTile(a, tab, raw, offs, g, ng, stride, lp) }, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, stride, lp) }, nq * lp},
 		}
 		// Index lists as the missing-call kernels see them: ascending
 		// (repeats allowed).
@@ -78,26 +90,28 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		for i := range src32 {
 			src32[i] = float32(r.NormFloat64())
 		}
+		// The AVX-512 kernels where the machine has them, and the AVX2 ones
+		// they replace there.
 		ks = append(ks,
-			kern{"gather32Tile", func(a []float64) { gather32Tile(a, tab32, raw, offs, g, ng, lp32) }, func(a []float64) { gather32TileGeneric(a, tab32, raw, offs, g, ng, lp32) }, nq * lp32},
-			kern{"marginal32", func(a []float64) { marginal32(a, tab32, &marginalIdx[trial%4][0], &marginalIdx[trial%4][1], lp32) }, func(a []float64) {
-				marginal32Generic(a, tab32, &marginalIdx[trial%4][0], &marginalIdx[trial%4][1], lp32)
-			}, lp32},
+			kern{"gather32Tile", func(a []float64) { gather32Tile(a, tab32, raw, offs, g, ng, stride, lp32) }, func(a []float64) { gather32TileGeneric(a, tab32, raw, offs, g, ng, stride, lp32) }, nq * lp32},
+			kern{"gather32Tile/AVX2", func(a []float64) {
+				defer func(z bool) { useAVX512 = z }(useAVX512)
+				useAVX512 = false
+				gather32Tile(a, tab32, raw, offs, g, ng, stride, lp32)
+			}, func(a []float64) { gather32TileGeneric(a, tab32, raw, offs, g, ng, stride, lp32) }, nq * lp32},
 		)
-		// scatter32Tile and addRows32 write float32 rows.
+		// addRows32 writes float32 rows.
 		b1 := make([]float32, ng*256*lp32)
 		for i := range b1 {
 			b1[i] = float32(r.NormFloat64())
 		}
 		b2 := append([]float32(nil), b1...)
-		scatter32Tile(b1, src32, raw, offs, g, ng, lp32)
-		scatter32TileGeneric(b2, src32, raw, offs, g, ng, lp32)
 		rows := min(nq, 64)
 		addRows32(b1, src32, tab32[lp32:], rows, lp32)
 		addRows32Generic(b2, src32, tab32[lp32:], rows, lp32)
 		for i := range b1 {
 			if b1[i] != b2[i] {
-				t.Fatalf("scatter32Tile/addRows32 trial %d (lp %d, n %d): element %d = %v, generic %v", trial, lp32, nq, i, b1[i], b2[i])
+				t.Fatalf("addRows32 trial %d (lp %d, n %d): element %d = %v, generic %v", trial, lp32, nq, i, b1[i], b2[i])
 			}
 		}
 		for _, k := range ks {
@@ -115,7 +129,7 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			}
 		}
 	}
-	t.Logf("vector kernels in use: %v", useAVX2)
+	t.Logf("vector kernels in use: AVX2 %v, AVX-512 %v", useAVX2, useAVX512)
 }
 
 // TestBuildTable checks the 256-entry group table against its definition
@@ -176,6 +190,55 @@ func TestFindMissing(t *testing.T) {
 			got := findMissing(row, n, nil)
 			if !slices.Equal(got, want) {
 				t.Fatalf("p %.2f, %d bytes, n %d: got %v, want %v", pMiss, nbytes, n, got, want)
+			}
+		}
+	}
+}
+
+// TestTransposeTile checks the transposed block against the codes read one
+// by one from the packed rows (the layout of fast.go: group u's byte for
+// sample q at u*stride + transposedOffset(q), marker 4u+s in bits 2s,
+// markers past the block's end as code 0), on odd shapes: partial runs of
+// 32 samples, a block whose marker count is not a multiple of four, and a
+// sample range starting inside the rows. No outside source: this is the
+// project's own layout.
+func TestTransposeTile(t *testing.T) {
+	r := rand.New(rand.NewPCG(4, 4))
+	for trial := 0; trial < 50; trial++ {
+		nb := 1 + r.IntN(70)
+		rb := 1 + r.IntN(90)
+		raw := make([]byte, nb*rb+r.IntN(3))
+		for i := range raw {
+			raw[i] = byte(r.Uint32())
+		}
+		offs := make([]int32, nb)
+		for q := range offs {
+			offs[q] = int32(q * rb)
+		}
+		pa := r.IntN(rb)
+		pb := pa + 1 + r.IntN(rb-pa)
+		ns := 4 * (pb - pa)
+		stride := (ns+31)&^31 + 32*r.IntN(2)
+		ngroups := (nb + 3) / 4
+		g := r.IntN(ngroups)
+		nt := 1 + r.IntN(ngroups-g)
+		tb := make([]byte, nt*stride)
+		transposeTile(tb, raw, offs, nb, g, nt, stride, pa, pb)
+		for u := 0; u < nt; u++ {
+			for q := 0; q < ns; q++ {
+				var want byte
+				for s := 0; s < 4; s++ {
+					m := 4*(g+u) + s
+					if m >= nb {
+						continue
+					}
+					i := 4*pa + q // sample, counted from the row's start
+					c := raw[int(offs[m])+i/4] >> (2 * (i % 4)) & 3
+					want |= c << (2 * s)
+				}
+				if got := tb[u*stride+int(transposedOffset(q))]; got != want {
+					t.Fatalf("trial %d (nb %d, bytes [%d,%d)): group %d sample %d: %08b, want %08b", trial, nb, pa, pb, g+u, q, got, want)
+				}
 			}
 		}
 	}

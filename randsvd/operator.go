@@ -344,6 +344,10 @@ type workspace struct {
 	ss        []float64 // float stores: the chunk's per-marker sums of squares (reused)
 	trace     []float64 // float stores: per-marker sum of squares
 	tabs      [][]float64
+	tbuf      [][]byte // per thread: a tile of the block transposed (transposeTile)
+	toffs     []int32  // each sample's offset in a transposed row (transposedOffset)
+	tstride   int      // bytes per transposed row (one group of markers)
+	jobs2     []int    // second-product jobs: segment boundaries (secondJob)
 	block     []byte   // kept rows of consecutive chunks, gathered into one block
 	bsels     []sel    // their selections (off = row within block)
 	csels     []sel    // selections of the chunk being processed
@@ -423,6 +427,32 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		ws.tabs32 = make([][]float32, op.threads)
 		for t := range ws.tabs32 {
 			ws.tabs32[t] = make([]float32, tileGroups32(lp)*256*lp)
+		}
+	}
+	if ws.tbuf == nil && !op.float {
+		// Second-product jobs: the segments split into about one run per
+		// thread (secondJob), each transposed secondRange samples at a time
+		// at most, tiles as wide as the widest of either precision.
+		nseg := len(op.segs) - 1
+		nj := min(nseg, op.threads)
+		ws.jobs2 = make([]int, nj+1)
+		for j := range ws.jobs2 {
+			ws.jobs2[j] = j * nseg / nj
+		}
+		most := 0
+		for j := 0; j < nj; j++ {
+			most = max(most, op.segs[ws.jobs2[j+1]]-op.segs[ws.jobs2[j]])
+		}
+		rows := (min(most, secondRange) + 31) &^ 31
+		ng := max(tileGroups(lp), tileGroups32(lp))
+		ws.tbuf = make([][]byte, op.threads)
+		for t := range ws.tbuf {
+			ws.tbuf[t] = make([]byte, ng*rows)
+		}
+		ws.tstride = rows
+		ws.toffs = make([]int32, rows)
+		for q := range ws.toffs {
+			ws.toffs[q] = transposedOffset(q)
 		}
 	}
 	if !fast && ws.tabs == nil {

@@ -2,8 +2,8 @@
 
 #include "textflag.h"
 
-// func gatherTileV1(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV1(SB), NOSPLIT, $0-56
+// func gatherTileV1(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV1(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -14,6 +14,7 @@ TEXT ·gatherTileV1(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g1single
@@ -25,7 +26,7 @@ g1pair:
 	VMOVUPD 0(DI), Y0
 	VMOVUPD 0(R15), Y8
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g1pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -35,8 +36,8 @@ g1pinner:
 	ADDQ R13, R12
 	VADDPD 0(AX), Y0, Y0
 	VADDPD 0(R12), Y8, Y8
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -59,54 +60,18 @@ g1single:
 	LEAQ (R8)(AX*1), BX
 	VMOVUPD 0(DI), Y0
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g1inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
 	ADDQ R13, AX
 	VADDPD 0(AX), Y0, Y0
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g1inner
 	VMOVUPD Y0, 0(DI)
 g1done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV1(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV1(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s1loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	MOVQ DI, R13
-	MOVQ R10, DX
-s1inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VMOVUPD Y8, 0(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s1inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s1loop
-s1done:
 	VZEROUPPER
 	RET
 
@@ -152,8 +117,8 @@ a1loop:
 	VZEROUPPER
 	RET
 
-// func gatherTileV2(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV2(SB), NOSPLIT, $0-56
+// func gatherTileV2(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV2(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -164,6 +129,7 @@ TEXT ·gatherTileV2(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g2single
@@ -177,7 +143,7 @@ g2pair:
 	VMOVUPD 32(DI), Y1
 	VMOVUPD 32(R15), Y9
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g2pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -189,8 +155,8 @@ g2pinner:
 	VADDPD 0(R12), Y8, Y8
 	VADDPD 32(AX), Y1, Y1
 	VADDPD 32(R12), Y9, Y9
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -216,59 +182,20 @@ g2single:
 	VMOVUPD 0(DI), Y0
 	VMOVUPD 32(DI), Y1
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g2inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
 	ADDQ R13, AX
 	VADDPD 0(AX), Y0, Y0
 	VADDPD 32(AX), Y1, Y1
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g2inner
 	VMOVUPD Y0, 0(DI)
 	VMOVUPD Y1, 32(DI)
 g2done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV2(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV2(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s2loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	VMOVUPD 32(SI), Y1
-	MOVQ DI, R13
-	MOVQ R10, DX
-s2inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VADDPD 32(AX), Y1, Y9
-	VMOVUPD Y8, 0(AX)
-	VMOVUPD Y9, 32(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s2inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s2loop
-s2done:
 	VZEROUPPER
 	RET
 
@@ -320,8 +247,8 @@ a2loop:
 	VZEROUPPER
 	RET
 
-// func gatherTileV3(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV3(SB), NOSPLIT, $0-56
+// func gatherTileV3(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV3(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -332,6 +259,7 @@ TEXT ·gatherTileV3(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g3single
@@ -347,7 +275,7 @@ g3pair:
 	VMOVUPD 64(DI), Y2
 	VMOVUPD 64(R15), Y10
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g3pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -361,8 +289,8 @@ g3pinner:
 	VADDPD 32(R12), Y9, Y9
 	VADDPD 64(AX), Y2, Y2
 	VADDPD 64(R12), Y10, Y10
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -391,7 +319,7 @@ g3single:
 	VMOVUPD 32(DI), Y1
 	VMOVUPD 64(DI), Y2
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g3inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -399,7 +327,7 @@ g3inner:
 	VADDPD 0(AX), Y0, Y0
 	VADDPD 32(AX), Y1, Y1
 	VADDPD 64(AX), Y2, Y2
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g3inner
@@ -407,48 +335,6 @@ g3inner:
 	VMOVUPD Y1, 32(DI)
 	VMOVUPD Y2, 64(DI)
 g3done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV3(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV3(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s3loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	VMOVUPD 32(SI), Y1
-	VMOVUPD 64(SI), Y2
-	MOVQ DI, R13
-	MOVQ R10, DX
-s3inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VADDPD 32(AX), Y1, Y9
-	VADDPD 64(AX), Y2, Y10
-	VMOVUPD Y8, 0(AX)
-	VMOVUPD Y9, 32(AX)
-	VMOVUPD Y10, 64(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s3inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s3loop
-s3done:
 	VZEROUPPER
 	RET
 
@@ -506,8 +392,8 @@ a3loop:
 	VZEROUPPER
 	RET
 
-// func gatherTileV4(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV4(SB), NOSPLIT, $0-56
+// func gatherTileV4(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV4(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -518,6 +404,7 @@ TEXT ·gatherTileV4(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g4single
@@ -535,7 +422,7 @@ g4pair:
 	VMOVUPD 96(DI), Y3
 	VMOVUPD 96(R15), Y11
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g4pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -551,8 +438,8 @@ g4pinner:
 	VADDPD 64(R12), Y10, Y10
 	VADDPD 96(AX), Y3, Y3
 	VADDPD 96(R12), Y11, Y11
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -584,7 +471,7 @@ g4single:
 	VMOVUPD 64(DI), Y2
 	VMOVUPD 96(DI), Y3
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g4inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -593,7 +480,7 @@ g4inner:
 	VADDPD 32(AX), Y1, Y1
 	VADDPD 64(AX), Y2, Y2
 	VADDPD 96(AX), Y3, Y3
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g4inner
@@ -602,51 +489,6 @@ g4inner:
 	VMOVUPD Y2, 64(DI)
 	VMOVUPD Y3, 96(DI)
 g4done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV4(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV4(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s4loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	VMOVUPD 32(SI), Y1
-	VMOVUPD 64(SI), Y2
-	VMOVUPD 96(SI), Y3
-	MOVQ DI, R13
-	MOVQ R10, DX
-s4inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VADDPD 32(AX), Y1, Y9
-	VADDPD 64(AX), Y2, Y10
-	VADDPD 96(AX), Y3, Y11
-	VMOVUPD Y8, 0(AX)
-	VMOVUPD Y9, 32(AX)
-	VMOVUPD Y10, 64(AX)
-	VMOVUPD Y11, 96(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s4inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s4loop
-s4done:
 	VZEROUPPER
 	RET
 
@@ -710,8 +552,8 @@ a4loop:
 	VZEROUPPER
 	RET
 
-// func gatherTileV5(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV5(SB), NOSPLIT, $0-56
+// func gatherTileV5(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV5(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -722,6 +564,7 @@ TEXT ·gatherTileV5(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g5single
@@ -741,7 +584,7 @@ g5pair:
 	VMOVUPD 128(DI), Y4
 	VMOVUPD 128(R15), Y12
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g5pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -759,8 +602,8 @@ g5pinner:
 	VADDPD 96(R12), Y11, Y11
 	VADDPD 128(AX), Y4, Y4
 	VADDPD 128(R12), Y12, Y12
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -795,7 +638,7 @@ g5single:
 	VMOVUPD 96(DI), Y3
 	VMOVUPD 128(DI), Y4
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g5inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -805,7 +648,7 @@ g5inner:
 	VADDPD 64(AX), Y2, Y2
 	VADDPD 96(AX), Y3, Y3
 	VADDPD 128(AX), Y4, Y4
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g5inner
@@ -815,54 +658,6 @@ g5inner:
 	VMOVUPD Y3, 96(DI)
 	VMOVUPD Y4, 128(DI)
 g5done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV5(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV5(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s5loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	VMOVUPD 32(SI), Y1
-	VMOVUPD 64(SI), Y2
-	VMOVUPD 96(SI), Y3
-	VMOVUPD 128(SI), Y4
-	MOVQ DI, R13
-	MOVQ R10, DX
-s5inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VADDPD 32(AX), Y1, Y9
-	VADDPD 64(AX), Y2, Y10
-	VADDPD 96(AX), Y3, Y11
-	VADDPD 128(AX), Y4, Y12
-	VMOVUPD Y8, 0(AX)
-	VMOVUPD Y9, 32(AX)
-	VMOVUPD Y10, 64(AX)
-	VMOVUPD Y11, 96(AX)
-	VMOVUPD Y12, 128(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s5inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s5loop
-s5done:
 	VZEROUPPER
 	RET
 
@@ -932,8 +727,8 @@ a5loop:
 	VZEROUPPER
 	RET
 
-// func gatherTileV6(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV6(SB), NOSPLIT, $0-56
+// func gatherTileV6(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV6(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -944,6 +739,7 @@ TEXT ·gatherTileV6(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g6single
@@ -965,7 +761,7 @@ g6pair:
 	VMOVUPD 160(DI), Y5
 	VMOVUPD 160(R15), Y13
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g6pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -985,8 +781,8 @@ g6pinner:
 	VADDPD 128(R12), Y12, Y12
 	VADDPD 160(AX), Y5, Y5
 	VADDPD 160(R12), Y13, Y13
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -1024,7 +820,7 @@ g6single:
 	VMOVUPD 128(DI), Y4
 	VMOVUPD 160(DI), Y5
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g6inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1035,7 +831,7 @@ g6inner:
 	VADDPD 96(AX), Y3, Y3
 	VADDPD 128(AX), Y4, Y4
 	VADDPD 160(AX), Y5, Y5
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g6inner
@@ -1046,57 +842,6 @@ g6inner:
 	VMOVUPD Y4, 128(DI)
 	VMOVUPD Y5, 160(DI)
 g6done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV6(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV6(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s6loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	VMOVUPD 32(SI), Y1
-	VMOVUPD 64(SI), Y2
-	VMOVUPD 96(SI), Y3
-	VMOVUPD 128(SI), Y4
-	VMOVUPD 160(SI), Y5
-	MOVQ DI, R13
-	MOVQ R10, DX
-s6inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VADDPD 32(AX), Y1, Y9
-	VADDPD 64(AX), Y2, Y10
-	VADDPD 96(AX), Y3, Y11
-	VADDPD 128(AX), Y4, Y12
-	VADDPD 160(AX), Y5, Y13
-	VMOVUPD Y8, 0(AX)
-	VMOVUPD Y9, 32(AX)
-	VMOVUPD Y10, 64(AX)
-	VMOVUPD Y11, 96(AX)
-	VMOVUPD Y12, 128(AX)
-	VMOVUPD Y13, 160(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s6inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s6loop
-s6done:
 	VZEROUPPER
 	RET
 
@@ -1172,8 +917,8 @@ a6loop:
 	VZEROUPPER
 	RET
 
-// func gatherTileV7(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV7(SB), NOSPLIT, $0-56
+// func gatherTileV7(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV7(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -1184,6 +929,7 @@ TEXT ·gatherTileV7(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g7single
@@ -1207,7 +953,7 @@ g7pair:
 	VMOVUPD 192(DI), Y6
 	VMOVUPD 192(R15), Y14
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g7pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1229,8 +975,8 @@ g7pinner:
 	VADDPD 160(R12), Y13, Y13
 	VADDPD 192(AX), Y6, Y6
 	VADDPD 192(R12), Y14, Y14
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -1271,7 +1017,7 @@ g7single:
 	VMOVUPD 160(DI), Y5
 	VMOVUPD 192(DI), Y6
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g7inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1283,7 +1029,7 @@ g7inner:
 	VADDPD 128(AX), Y4, Y4
 	VADDPD 160(AX), Y5, Y5
 	VADDPD 192(AX), Y6, Y6
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g7inner
@@ -1295,60 +1041,6 @@ g7inner:
 	VMOVUPD Y5, 160(DI)
 	VMOVUPD Y6, 192(DI)
 g7done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV7(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV7(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s7loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	VMOVUPD 32(SI), Y1
-	VMOVUPD 64(SI), Y2
-	VMOVUPD 96(SI), Y3
-	VMOVUPD 128(SI), Y4
-	VMOVUPD 160(SI), Y5
-	VMOVUPD 192(SI), Y6
-	MOVQ DI, R13
-	MOVQ R10, DX
-s7inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VADDPD 32(AX), Y1, Y9
-	VADDPD 64(AX), Y2, Y10
-	VADDPD 96(AX), Y3, Y11
-	VADDPD 128(AX), Y4, Y12
-	VADDPD 160(AX), Y5, Y13
-	VADDPD 192(AX), Y6, Y14
-	VMOVUPD Y8, 0(AX)
-	VMOVUPD Y9, 32(AX)
-	VMOVUPD Y10, 64(AX)
-	VMOVUPD Y11, 96(AX)
-	VMOVUPD Y12, 128(AX)
-	VMOVUPD Y13, 160(AX)
-	VMOVUPD Y14, 192(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s7inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s7loop
-s7done:
 	VZEROUPPER
 	RET
 
@@ -1430,8 +1122,8 @@ a7loop:
 	VZEROUPPER
 	RET
 
-// func gatherTileV8(dst, tab *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gatherTileV8(SB), NOSPLIT, $0-56
+// func gatherTileV8(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gatherTileV8(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -1442,6 +1134,7 @@ TEXT ·gatherTileV8(SB), NOSPLIT, $0-56
 	SHLQ $3, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	LEAQ (DI)(R11*1), R15
 	CMPQ CX, $2
 	JLT g8single
@@ -1467,7 +1160,7 @@ g8pair:
 	VMOVUPD 224(DI), Y7
 	VMOVUPD 224(R15), Y15
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g8pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1491,8 +1184,8 @@ g8pinner:
 	VADDPD 192(R12), Y14, Y14
 	VADDPD 224(AX), Y7, Y7
 	VADDPD 224(R12), Y15, Y15
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	MOVQ R11, R12
 	SHLQ $8, R12
 	ADDQ R12, R13
@@ -1536,7 +1229,7 @@ g8single:
 	VMOVUPD 192(DI), Y6
 	VMOVUPD 224(DI), Y7
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 g8inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1549,7 +1242,7 @@ g8inner:
 	VADDPD 160(AX), Y5, Y5
 	VADDPD 192(AX), Y6, Y6
 	VADDPD 224(AX), Y7, Y7
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ g8inner
@@ -1562,63 +1255,6 @@ g8inner:
 	VMOVUPD Y6, 192(DI)
 	VMOVUPD Y7, 224(DI)
 g8done:
-	VZEROUPPER
-	RET
-
-// func scatterTileV8(buck, src *float64, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatterTileV8(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $3, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-s8loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPD 0(SI), Y0
-	VMOVUPD 32(SI), Y1
-	VMOVUPD 64(SI), Y2
-	VMOVUPD 96(SI), Y3
-	VMOVUPD 128(SI), Y4
-	VMOVUPD 160(SI), Y5
-	VMOVUPD 192(SI), Y6
-	VMOVUPD 224(SI), Y7
-	MOVQ DI, R13
-	MOVQ R10, DX
-s8inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPD 0(AX), Y0, Y8
-	VADDPD 32(AX), Y1, Y9
-	VADDPD 64(AX), Y2, Y10
-	VADDPD 96(AX), Y3, Y11
-	VADDPD 128(AX), Y4, Y12
-	VADDPD 160(AX), Y5, Y13
-	VADDPD 192(AX), Y6, Y14
-	VADDPD 224(AX), Y7, Y15
-	VMOVUPD Y8, 0(AX)
-	VMOVUPD Y9, 32(AX)
-	VMOVUPD Y10, 64(AX)
-	VMOVUPD Y11, 96(AX)
-	VMOVUPD Y12, 128(AX)
-	VMOVUPD Y13, 160(AX)
-	VMOVUPD Y14, 192(AX)
-	VMOVUPD Y15, 224(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ s8inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ s8loop
-s8done:
 	VZEROUPPER
 	RET
 
@@ -1706,8 +1342,8 @@ a8loop:
 	VZEROUPPER
 	RET
 
-// func gather32V0T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V0T1(SB), NOSPLIT, $0-56
+// func gather32V0T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V0T1(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -1718,6 +1354,7 @@ TEXT ·gather32V0T1(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h01single
 h01pair:
@@ -1728,7 +1365,7 @@ h01pair:
 	VXORPS Y0, Y0, Y0
 	VXORPS Y1, Y1, Y1
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h01pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1738,8 +1375,8 @@ h01pinner:
 	ADDQ R13, R15
 	VADDPS 0(AX), X0, X0
 	VADDPS 0(R15), X1, X1
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h01pinner
@@ -1764,13 +1401,13 @@ h01single:
 	LEAQ (R8)(AX*1), BX
 	VXORPS Y0, Y0, Y0
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h01inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
 	ADDQ R13, AX
 	VADDPS 0(AX), X0, X0
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h01inner
@@ -1781,43 +1418,8 @@ h01done:
 	VZEROUPPER
 	RET
 
-// func scatter32V0T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V0T1(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t01loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), X0
-	MOVQ DI, R13
-	MOVQ R10, DX
-t01inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), X0, X8
-	VMOVUPS X8, 0(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t01inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t01loop
-	VZEROUPPER
-	RET
-
-// func gather32V1T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V1T0(SB), NOSPLIT, $0-56
+// func gather32V1T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V1T0(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -1828,6 +1430,7 @@ TEXT ·gather32V1T0(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h10single
 h10pair:
@@ -1838,7 +1441,7 @@ h10pair:
 	VXORPS Y0, Y0, Y0
 	VXORPS Y1, Y1, Y1
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h10pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1848,8 +1451,8 @@ h10pinner:
 	ADDQ R13, R15
 	VADDPS 0(AX), Y0, Y0
 	VADDPS 0(R15), Y1, Y1
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h10pinner
@@ -1882,13 +1485,13 @@ h10single:
 	LEAQ (R8)(AX*1), BX
 	VXORPS Y0, Y0, Y0
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h10inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
 	ADDQ R13, AX
 	VADDPS 0(AX), Y0, Y0
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h10inner
@@ -1903,43 +1506,8 @@ h10done:
 	VZEROUPPER
 	RET
 
-// func scatter32V1T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V1T0(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t10loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	MOVQ DI, R13
-	MOVQ R10, DX
-t10inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VMOVUPS Y8, 0(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t10inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t10loop
-	VZEROUPPER
-	RET
-
-// func gather32V1T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V1T1(SB), NOSPLIT, $0-56
+// func gather32V1T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V1T1(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -1950,6 +1518,7 @@ TEXT ·gather32V1T1(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h11single
 h11pair:
@@ -1962,7 +1531,7 @@ h11pair:
 	VXORPS Y2, Y2, Y2
 	VXORPS Y3, Y3, Y3
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h11pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -1974,8 +1543,8 @@ h11pinner:
 	VADDPS 0(R15), Y2, Y2
 	VADDPS 32(AX), X1, X1
 	VADDPS 32(R15), X3, X3
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h11pinner
@@ -2015,14 +1584,14 @@ h11single:
 	VXORPS Y0, Y0, Y0
 	VXORPS Y1, Y1, Y1
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h11inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
 	ADDQ R13, AX
 	VADDPS 0(AX), Y0, Y0
 	VADDPS 32(AX), X1, X1
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h11inner
@@ -2040,46 +1609,8 @@ h11done:
 	VZEROUPPER
 	RET
 
-// func scatter32V1T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V1T1(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t11loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	VMOVUPS 32(SI), X1
-	MOVQ DI, R13
-	MOVQ R10, DX
-t11inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VADDPS 32(AX), X1, X9
-	VMOVUPS Y8, 0(AX)
-	VMOVUPS X9, 32(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t11inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t11loop
-	VZEROUPPER
-	RET
-
-// func gather32V2T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V2T0(SB), NOSPLIT, $0-56
+// func gather32V2T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V2T0(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -2090,6 +1621,7 @@ TEXT ·gather32V2T0(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h20single
 h20pair:
@@ -2102,7 +1634,7 @@ h20pair:
 	VXORPS Y2, Y2, Y2
 	VXORPS Y3, Y3, Y3
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h20pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2114,8 +1646,8 @@ h20pinner:
 	VADDPS 0(R15), Y2, Y2
 	VADDPS 32(AX), Y1, Y1
 	VADDPS 32(R15), Y3, Y3
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h20pinner
@@ -2163,14 +1695,14 @@ h20single:
 	VXORPS Y0, Y0, Y0
 	VXORPS Y1, Y1, Y1
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h20inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
 	ADDQ R13, AX
 	VADDPS 0(AX), Y0, Y0
 	VADDPS 32(AX), Y1, Y1
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h20inner
@@ -2192,46 +1724,8 @@ h20done:
 	VZEROUPPER
 	RET
 
-// func scatter32V2T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V2T0(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t20loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	VMOVUPS 32(SI), Y1
-	MOVQ DI, R13
-	MOVQ R10, DX
-t20inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VADDPS 32(AX), Y1, Y9
-	VMOVUPS Y8, 0(AX)
-	VMOVUPS Y9, 32(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t20inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t20loop
-	VZEROUPPER
-	RET
-
-// func gather32V2T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V2T1(SB), NOSPLIT, $0-56
+// func gather32V2T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V2T1(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -2242,6 +1736,7 @@ TEXT ·gather32V2T1(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h21single
 h21pair:
@@ -2256,7 +1751,7 @@ h21pair:
 	VXORPS Y4, Y4, Y4
 	VXORPS Y5, Y5, Y5
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h21pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2270,8 +1765,8 @@ h21pinner:
 	VADDPS 32(R15), Y4, Y4
 	VADDPS 64(AX), X2, X2
 	VADDPS 64(R15), X5, X5
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h21pinner
@@ -2326,7 +1821,7 @@ h21single:
 	VXORPS Y1, Y1, Y1
 	VXORPS Y2, Y2, Y2
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h21inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2334,7 +1829,7 @@ h21inner:
 	VADDPS 0(AX), Y0, Y0
 	VADDPS 32(AX), Y1, Y1
 	VADDPS 64(AX), X2, X2
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h21inner
@@ -2359,49 +1854,8 @@ h21done:
 	VZEROUPPER
 	RET
 
-// func scatter32V2T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V2T1(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t21loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	VMOVUPS 32(SI), Y1
-	VMOVUPS 64(SI), X2
-	MOVQ DI, R13
-	MOVQ R10, DX
-t21inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VADDPS 32(AX), Y1, Y9
-	VADDPS 64(AX), X2, X10
-	VMOVUPS Y8, 0(AX)
-	VMOVUPS Y9, 32(AX)
-	VMOVUPS X10, 64(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t21inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t21loop
-	VZEROUPPER
-	RET
-
-// func gather32V3T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V3T0(SB), NOSPLIT, $0-56
+// func gather32V3T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V3T0(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -2412,6 +1866,7 @@ TEXT ·gather32V3T0(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h30single
 h30pair:
@@ -2426,7 +1881,7 @@ h30pair:
 	VXORPS Y4, Y4, Y4
 	VXORPS Y5, Y5, Y5
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h30pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2440,8 +1895,8 @@ h30pinner:
 	VADDPS 32(R15), Y4, Y4
 	VADDPS 64(AX), Y2, Y2
 	VADDPS 64(R15), Y5, Y5
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h30pinner
@@ -2504,7 +1959,7 @@ h30single:
 	VXORPS Y1, Y1, Y1
 	VXORPS Y2, Y2, Y2
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h30inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2512,7 +1967,7 @@ h30inner:
 	VADDPS 0(AX), Y0, Y0
 	VADDPS 32(AX), Y1, Y1
 	VADDPS 64(AX), Y2, Y2
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h30inner
@@ -2541,49 +1996,8 @@ h30done:
 	VZEROUPPER
 	RET
 
-// func scatter32V3T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V3T0(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t30loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	VMOVUPS 32(SI), Y1
-	VMOVUPS 64(SI), Y2
-	MOVQ DI, R13
-	MOVQ R10, DX
-t30inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VADDPS 32(AX), Y1, Y9
-	VADDPS 64(AX), Y2, Y10
-	VMOVUPS Y8, 0(AX)
-	VMOVUPS Y9, 32(AX)
-	VMOVUPS Y10, 64(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t30inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t30loop
-	VZEROUPPER
-	RET
-
-// func gather32V3T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V3T1(SB), NOSPLIT, $0-56
+// func gather32V3T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V3T1(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -2594,6 +2008,7 @@ TEXT ·gather32V3T1(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h31single
 h31pair:
@@ -2610,7 +2025,7 @@ h31pair:
 	VXORPS Y6, Y6, Y6
 	VXORPS Y7, Y7, Y7
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h31pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2626,8 +2041,8 @@ h31pinner:
 	VADDPS 64(R15), Y6, Y6
 	VADDPS 96(AX), X3, X3
 	VADDPS 96(R15), X7, X7
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h31pinner
@@ -2697,7 +2112,7 @@ h31single:
 	VXORPS Y2, Y2, Y2
 	VXORPS Y3, Y3, Y3
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h31inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2706,7 +2121,7 @@ h31inner:
 	VADDPS 32(AX), Y1, Y1
 	VADDPS 64(AX), Y2, Y2
 	VADDPS 96(AX), X3, X3
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h31inner
@@ -2738,52 +2153,8 @@ h31done:
 	VZEROUPPER
 	RET
 
-// func scatter32V3T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V3T1(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t31loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	VMOVUPS 32(SI), Y1
-	VMOVUPS 64(SI), Y2
-	VMOVUPS 96(SI), X3
-	MOVQ DI, R13
-	MOVQ R10, DX
-t31inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VADDPS 32(AX), Y1, Y9
-	VADDPS 64(AX), Y2, Y10
-	VADDPS 96(AX), X3, X11
-	VMOVUPS Y8, 0(AX)
-	VMOVUPS Y9, 32(AX)
-	VMOVUPS Y10, 64(AX)
-	VMOVUPS X11, 96(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t31inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t31loop
-	VZEROUPPER
-	RET
-
-// func gather32V4T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V4T0(SB), NOSPLIT, $0-56
+// func gather32V4T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V4T0(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -2794,6 +2165,7 @@ TEXT ·gather32V4T0(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h40single
 h40pair:
@@ -2810,7 +2182,7 @@ h40pair:
 	VXORPS Y6, Y6, Y6
 	VXORPS Y7, Y7, Y7
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h40pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2826,8 +2198,8 @@ h40pinner:
 	VADDPS 64(R15), Y6, Y6
 	VADDPS 96(AX), Y3, Y3
 	VADDPS 96(R15), Y7, Y7
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h40pinner
@@ -2905,7 +2277,7 @@ h40single:
 	VXORPS Y2, Y2, Y2
 	VXORPS Y3, Y3, Y3
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h40inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -2914,7 +2286,7 @@ h40inner:
 	VADDPS 32(AX), Y1, Y1
 	VADDPS 64(AX), Y2, Y2
 	VADDPS 96(AX), Y3, Y3
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h40inner
@@ -2950,52 +2322,8 @@ h40done:
 	VZEROUPPER
 	RET
 
-// func scatter32V4T0(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V4T0(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
-	MOVQ raw+16(FP), R8
-	MOVQ offs+24(FP), R9
-	MOVQ n+32(FP), CX
-	MOVQ ng+40(FP), R10
-	MOVQ lp+48(FP), R11
-	SHLQ $2, R11
-	MOVQ R11, R12
-	SHLQ $8, R12
-t40loop:
-	MOVLQSX (R9), AX
-	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	VMOVUPS 32(SI), Y1
-	VMOVUPS 64(SI), Y2
-	VMOVUPS 96(SI), Y3
-	MOVQ DI, R13
-	MOVQ R10, DX
-t40inner:
-	MOVBQZX (BX), AX
-	IMULQ R11, AX
-	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VADDPS 32(AX), Y1, Y9
-	VADDPS 64(AX), Y2, Y10
-	VADDPS 96(AX), Y3, Y11
-	VMOVUPS Y8, 0(AX)
-	VMOVUPS Y9, 32(AX)
-	VMOVUPS Y10, 64(AX)
-	VMOVUPS Y11, 96(AX)
-	INCQ BX
-	ADDQ R12, R13
-	DECQ DX
-	JNZ t40inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t40loop
-	VZEROUPPER
-	RET
-
-// func gather32V4T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·gather32V4T1(SB), NOSPLIT, $0-56
+// func gather32V4T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32V4T1(SB), NOSPLIT, $0-64
 	MOVQ dst+0(FP), DI
 	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
@@ -3006,6 +2334,7 @@ TEXT ·gather32V4T1(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
 	CMPQ CX, $2
 	JLT h41single
 h41pair:
@@ -3024,7 +2353,7 @@ h41pair:
 	VXORPS Y8, Y8, Y8
 	VXORPS Y9, Y9, Y9
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h41pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -3042,8 +2371,8 @@ h41pinner:
 	VADDPS 96(R15), Y8, Y8
 	VADDPS 128(AX), X4, X4
 	VADDPS 128(R15), X9, X9
-	INCQ BX
-	INCQ R14
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h41pinner
@@ -3128,7 +2457,7 @@ h41single:
 	VXORPS Y3, Y3, Y3
 	VXORPS Y4, Y4, Y4
 	MOVQ SI, R13
-	MOVQ R10, DX
+	MOVQ ng+40(FP), DX
 h41inner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
@@ -3138,7 +2467,7 @@ h41inner:
 	VADDPS 64(AX), Y2, Y2
 	VADDPS 96(AX), Y3, Y3
 	VADDPS 128(AX), X4, X4
-	INCQ BX
+	ADDQ R10, BX
 	ADDQ R12, R13
 	DECQ DX
 	JNZ h41inner
@@ -3177,10 +2506,10 @@ h41done:
 	VZEROUPPER
 	RET
 
-// func scatter32V4T1(buck, src *float32, raw *byte, offs *int32, n, ng, lp int)
-TEXT ·scatter32V4T1(SB), NOSPLIT, $0-56
-	MOVQ buck+0(FP), DI
-	MOVQ src+8(FP), SI
+// func gather32Z1V0T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32Z1V0T0(SB), NOSPLIT, $0-64
+	MOVQ dst+0(FP), DI
+	MOVQ tab+8(FP), SI
 	MOVQ raw+16(FP), R8
 	MOVQ offs+24(FP), R9
 	MOVQ n+32(FP), CX
@@ -3189,38 +2518,542 @@ TEXT ·scatter32V4T1(SB), NOSPLIT, $0-56
 	SHLQ $2, R11
 	MOVQ R11, R12
 	SHLQ $8, R12
-t41loop:
+	MOVQ stride+56(FP), R10
+	CMPQ CX, $2
+	JLT hz100single
+hz100pair:
 	MOVLQSX (R9), AX
 	LEAQ (R8)(AX*1), BX
-	VMOVUPS 0(SI), Y0
-	VMOVUPS 32(SI), Y1
-	VMOVUPS 64(SI), Y2
-	VMOVUPS 96(SI), Y3
-	VMOVUPS 128(SI), X4
-	MOVQ DI, R13
-	MOVQ R10, DX
-t41inner:
+	MOVLQSX 4(R9), AX
+	LEAQ (R8)(AX*1), R14
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz100pinner:
 	MOVBQZX (BX), AX
 	IMULQ R11, AX
 	ADDQ R13, AX
-	VADDPS 0(AX), Y0, Y8
-	VADDPS 32(AX), Y1, Y9
-	VADDPS 64(AX), Y2, Y10
-	VADDPS 96(AX), Y3, Y11
-	VADDPS 128(AX), X4, X12
-	VMOVUPS Y8, 0(AX)
-	VMOVUPS Y9, 32(AX)
-	VMOVUPS Y10, 64(AX)
-	VMOVUPS Y11, 96(AX)
-	VMOVUPS X12, 128(AX)
-	INCQ BX
+	MOVBQZX (R14), R15
+	IMULQ R11, R15
+	ADDQ R13, R15
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 0(R15), Z1, Z1
+	ADDQ R10, BX
+	ADDQ R10, R14
 	ADDQ R12, R13
 	DECQ DX
-	JNZ t41inner
-	ADDQ R11, SI
-	ADDQ $4, R9
-	DECQ CX
-	JNZ t41loop
+	JNZ hz100pinner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	VCVTPS2PD Y1, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z1, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	ADDQ $8, R9
+	SUBQ $2, CX
+	CMPQ CX, $2
+	JGE hz100pair
+hz100single:
+	TESTQ CX, CX
+	JZ hz100done
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	VXORPS Y0, Y0, Y0
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz100inner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	VADDPS 0(AX), Z0, Z0
+	ADDQ R10, BX
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz100inner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+hz100done:
+	VZEROUPPER
+	RET
+
+// func gather32Z1V0T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32Z1V0T1(SB), NOSPLIT, $0-64
+	MOVQ dst+0(FP), DI
+	MOVQ tab+8(FP), SI
+	MOVQ raw+16(FP), R8
+	MOVQ offs+24(FP), R9
+	MOVQ n+32(FP), CX
+	MOVQ ng+40(FP), R10
+	MOVQ lp+48(FP), R11
+	SHLQ $2, R11
+	MOVQ R11, R12
+	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
+	CMPQ CX, $2
+	JLT hz101single
+hz101pair:
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	MOVLQSX 4(R9), AX
+	LEAQ (R8)(AX*1), R14
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz101pinner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	MOVBQZX (R14), R15
+	IMULQ R11, R15
+	ADDQ R13, R15
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 0(R15), Z2, Z2
+	VADDPS 64(AX), X1, X1
+	VADDPS 64(R15), X3, X3
+	ADDQ R10, BX
+	ADDQ R10, R14
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz101pinner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X1, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	VCVTPS2PD Y2, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z2, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X3, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	ADDQ $8, R9
+	SUBQ $2, CX
+	CMPQ CX, $2
+	JGE hz101pair
+hz101single:
+	TESTQ CX, CX
+	JZ hz101done
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz101inner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 64(AX), X1, X1
+	ADDQ R10, BX
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz101inner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X1, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+hz101done:
+	VZEROUPPER
+	RET
+
+// func gather32Z1V1T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32Z1V1T0(SB), NOSPLIT, $0-64
+	MOVQ dst+0(FP), DI
+	MOVQ tab+8(FP), SI
+	MOVQ raw+16(FP), R8
+	MOVQ offs+24(FP), R9
+	MOVQ n+32(FP), CX
+	MOVQ ng+40(FP), R10
+	MOVQ lp+48(FP), R11
+	SHLQ $2, R11
+	MOVQ R11, R12
+	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
+	CMPQ CX, $2
+	JLT hz110single
+hz110pair:
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	MOVLQSX 4(R9), AX
+	LEAQ (R8)(AX*1), R14
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz110pinner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	MOVBQZX (R14), R15
+	IMULQ R11, R15
+	ADDQ R13, R15
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 0(R15), Z2, Z2
+	VADDPS 64(AX), Y1, Y1
+	VADDPS 64(R15), Y3, Y3
+	ADDQ R10, BX
+	ADDQ R10, R14
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz110pinner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X1, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	VEXTRACTF128 $1, Y1, X15
+	VCVTPS2PD X15, Y15
+	VADDPD 160(DI), Y15, Y15
+	VMOVUPD Y15, 160(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	VCVTPS2PD Y2, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z2, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X3, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	VEXTRACTF128 $1, Y3, X15
+	VCVTPS2PD X15, Y15
+	VADDPD 160(DI), Y15, Y15
+	VMOVUPD Y15, 160(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	ADDQ $8, R9
+	SUBQ $2, CX
+	CMPQ CX, $2
+	JGE hz110pair
+hz110single:
+	TESTQ CX, CX
+	JZ hz110done
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz110inner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 64(AX), Y1, Y1
+	ADDQ R10, BX
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz110inner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X1, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	VEXTRACTF128 $1, Y1, X15
+	VCVTPS2PD X15, Y15
+	VADDPD 160(DI), Y15, Y15
+	VMOVUPD Y15, 160(DI)
+hz110done:
+	VZEROUPPER
+	RET
+
+// func gather32Z1V1T1(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32Z1V1T1(SB), NOSPLIT, $0-64
+	MOVQ dst+0(FP), DI
+	MOVQ tab+8(FP), SI
+	MOVQ raw+16(FP), R8
+	MOVQ offs+24(FP), R9
+	MOVQ n+32(FP), CX
+	MOVQ ng+40(FP), R10
+	MOVQ lp+48(FP), R11
+	SHLQ $2, R11
+	MOVQ R11, R12
+	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
+	CMPQ CX, $2
+	JLT hz111single
+hz111pair:
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	MOVLQSX 4(R9), AX
+	LEAQ (R8)(AX*1), R14
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	VXORPS Y4, Y4, Y4
+	VXORPS Y5, Y5, Y5
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz111pinner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	MOVBQZX (R14), R15
+	IMULQ R11, R15
+	ADDQ R13, R15
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 0(R15), Z3, Z3
+	VADDPS 64(AX), Y1, Y1
+	VADDPS 64(R15), Y4, Y4
+	VADDPS 96(AX), X2, X2
+	VADDPS 96(R15), X5, X5
+	ADDQ R10, BX
+	ADDQ R10, R14
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz111pinner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X1, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	VEXTRACTF128 $1, Y1, X15
+	VCVTPS2PD X15, Y15
+	VADDPD 160(DI), Y15, Y15
+	VMOVUPD Y15, 160(DI)
+	VCVTPS2PD X2, Y14
+	VADDPD 192(DI), Y14, Y14
+	VMOVUPD Y14, 192(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	VCVTPS2PD Y3, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z3, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X4, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	VEXTRACTF128 $1, Y4, X15
+	VCVTPS2PD X15, Y15
+	VADDPD 160(DI), Y15, Y15
+	VMOVUPD Y15, 160(DI)
+	VCVTPS2PD X5, Y14
+	VADDPD 192(DI), Y14, Y14
+	VMOVUPD Y14, 192(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	ADDQ $8, R9
+	SUBQ $2, CX
+	CMPQ CX, $2
+	JGE hz111pair
+hz111single:
+	TESTQ CX, CX
+	JZ hz111done
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz111inner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 64(AX), Y1, Y1
+	VADDPS 96(AX), X2, X2
+	ADDQ R10, BX
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz111inner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD X1, Y14
+	VADDPD 128(DI), Y14, Y14
+	VMOVUPD Y14, 128(DI)
+	VEXTRACTF128 $1, Y1, X15
+	VCVTPS2PD X15, Y15
+	VADDPD 160(DI), Y15, Y15
+	VMOVUPD Y15, 160(DI)
+	VCVTPS2PD X2, Y14
+	VADDPD 192(DI), Y14, Y14
+	VMOVUPD Y14, 192(DI)
+hz111done:
+	VZEROUPPER
+	RET
+
+// func gather32Z2V0T0(dst *float64, tab *float32, raw *byte, offs *int32, n, ng, lp, stride int)
+TEXT ·gather32Z2V0T0(SB), NOSPLIT, $0-64
+	MOVQ dst+0(FP), DI
+	MOVQ tab+8(FP), SI
+	MOVQ raw+16(FP), R8
+	MOVQ offs+24(FP), R9
+	MOVQ n+32(FP), CX
+	MOVQ ng+40(FP), R10
+	MOVQ lp+48(FP), R11
+	SHLQ $2, R11
+	MOVQ R11, R12
+	SHLQ $8, R12
+	MOVQ stride+56(FP), R10
+	CMPQ CX, $2
+	JLT hz200single
+hz200pair:
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	MOVLQSX 4(R9), AX
+	LEAQ (R8)(AX*1), R14
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	VXORPS Y2, Y2, Y2
+	VXORPS Y3, Y3, Y3
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz200pinner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	MOVBQZX (R14), R15
+	IMULQ R11, R15
+	ADDQ R13, R15
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 0(R15), Z2, Z2
+	VADDPS 64(AX), Z1, Z1
+	VADDPS 64(R15), Z3, Z3
+	ADDQ R10, BX
+	ADDQ R10, R14
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz200pinner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD Y1, Z14
+	VADDPD 128(DI), Z14, Z14
+	VMOVUPD Z14, 128(DI)
+	VEXTRACTF64X4 $1, Z1, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 192(DI), Z15, Z15
+	VMOVUPD Z15, 192(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	VCVTPS2PD Y2, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z2, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD Y3, Z14
+	VADDPD 128(DI), Z14, Z14
+	VMOVUPD Z14, 128(DI)
+	VEXTRACTF64X4 $1, Z3, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 192(DI), Z15, Z15
+	VMOVUPD Z15, 192(DI)
+	ADDQ R11, DI
+	ADDQ R11, DI
+	ADDQ $8, R9
+	SUBQ $2, CX
+	CMPQ CX, $2
+	JGE hz200pair
+hz200single:
+	TESTQ CX, CX
+	JZ hz200done
+	MOVLQSX (R9), AX
+	LEAQ (R8)(AX*1), BX
+	VXORPS Y0, Y0, Y0
+	VXORPS Y1, Y1, Y1
+	MOVQ SI, R13
+	MOVQ ng+40(FP), DX
+hz200inner:
+	MOVBQZX (BX), AX
+	IMULQ R11, AX
+	ADDQ R13, AX
+	VADDPS 0(AX), Z0, Z0
+	VADDPS 64(AX), Z1, Z1
+	ADDQ R10, BX
+	ADDQ R12, R13
+	DECQ DX
+	JNZ hz200inner
+	VCVTPS2PD Y0, Z14
+	VADDPD 0(DI), Z14, Z14
+	VMOVUPD Z14, 0(DI)
+	VEXTRACTF64X4 $1, Z0, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 64(DI), Z15, Z15
+	VMOVUPD Z15, 64(DI)
+	VCVTPS2PD Y1, Z14
+	VADDPD 128(DI), Z14, Z14
+	VMOVUPD Z14, 128(DI)
+	VEXTRACTF64X4 $1, Z1, Y15
+	VCVTPS2PD Y15, Z15
+	VADDPD 192(DI), Z15, Z15
+	VMOVUPD Z15, 192(DI)
+hz200done:
 	VZEROUPPER
 	RET
 
