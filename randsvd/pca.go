@@ -135,6 +135,9 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	// and of the block's W''; a run that mixes both kinds of pass keeps
 	// both kinds of table.
 	tabs := int64(tileGroups(int(lp)))*256*lp*8 + int64(tileGroups32(int(lp)))*256*lp*4
+	// Each thread's transposed tile of the second product (secondTiles):
+	// one row per group of the widest tile, at most secondRange samples.
+	tabs += int64(max(tileGroups(int(lp)), tileGroups32(int(lp)))) * int64(min(n, secondRange)+31)
 	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + blockM*lp*4
 	// The loadings stash's two row buffers and its encoding buffer during
 	// the refinement pass (stash.go).
