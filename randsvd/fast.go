@@ -24,10 +24,11 @@ func tileGroups32(lp int) int {
 	return max(1, min(16, (384<<10)/(256*w*4)))
 }
 
-// buildTable32 is buildTable in float32: tab (256 rows of lp) gets
-// sum_s val(code_s(v)) x_{4g+s} for every byte value v, summed in float32
-// in the same order by addRows32 (x2: scratch of lp values).
-func buildTable32(tab, x, x2 []float32, g, n, lp int) { buildTab(tab, x, x2, g, n, lp, addRows32) }
+// buildTable32 is buildTable in float32, summed in the same order by
+// addRows32 (x2: scratch of lp values).
+func buildTable32(tab, x, m, x2 []float32, g, n, lp int) {
+	buildTab(tab, x, m, x2, g, n, lp, addRows32)
+}
 
 // addRows32Generic sets dst[r] = src[r] + v for r < rows.
 func addRows32Generic(dst, src, v []float32, rows, lp int) {
@@ -81,7 +82,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 		for g := start; g < end; g += ng {
 			nt := min(ng, end-g)
 			for u := 0; u < nt; u++ {
-				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.x32, ws.scratch32[t*lp:(t+1)*lp], g+u, n, lp)
+				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.x32, nil, ws.scratch32[t*lp:(t+1)*lp], g+u, n, lp)
 			}
 			gather32Tile(part, tab, raw, offs, g, nt, 1, lp)
 		}
@@ -92,7 +93,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 	for g := start; g < end; g += ng {
 		nt := min(ng, end-g)
 		for u := 0; u < nt; u++ {
-			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, ws.scratch[t*lp:(t+1)*lp], g+u, n, lp)
+			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, nil, ws.scratch[t*lp:(t+1)*lp], g+u, n, lp)
 		}
 		gatherTile(part, tab, raw, offs, g, nt, 1, lp)
 	}
@@ -127,14 +128,14 @@ func (op *Operator) secondTiles(ws *workspace, raw []byte, offs []int32, a, b, t
 		if ws.fast {
 			tab := ws.tabs32[t]
 			for u := 0; u < nt; u++ {
-				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.wpp32, ws.scratch32[t*lp:(t+1)*lp], g+u, nb, lp)
+				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.wpp32, ws.mwpp32, ws.scratch32[t*lp:(t+1)*lp], g+u, nb, lp)
 			}
 			gather32Tile(ws.y[a*lp:b*lp], tab, tb, toffs, 0, nt, ws.tstride, lp)
 			continue
 		}
 		tab := ws.tabs[t]
 		for u := 0; u < nt; u++ {
-			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.wpp, ws.scratch[t*lp:(t+1)*lp], g+u, nb, lp)
+			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.wpp, ws.mwpp, ws.scratch[t*lp:(t+1)*lp], g+u, nb, lp)
 		}
 		gatherTile(ws.y[a*lp:b*lp], tab, tb, toffs, 0, nt, ws.tstride, lp)
 	}

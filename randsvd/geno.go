@@ -44,16 +44,21 @@ func segments(n int) []int {
 	return append(b, n)
 }
 
-// buildTable fills tab (256 rows of lp) with sum_s val(code_s(v)) x_{4g+s}
-// for every byte value v; rows of samples beyond n count as zero. x2 is
+// buildTable fills tab (256 rows of lp) with sum_s val_s(code_s(v)) for
+// every byte value v, val_s(1) = x_{4g+s}, val_s(2) = 2 x_{4g+s},
+// val_s(0) = 0 and val_s(3) (a missing call) = m_{4g+s}, or 0 if m is nil;
+// rows of indices beyond n count as zero. The first product's tables are
+// over samples (x the rows of X, m nil); the second product's over block
+// markers (x the rows of W'', m those of mu_j W''_j, which give back to a
+// sample missing at marker j the -mu_j W''_j every sample gets). x2 is
 // scratch of lp values.
-func buildTable(tab, x, x2 []float64, g, n, lp int) { buildTab(tab, x, x2, g, n, lp, addRows) }
+func buildTable(tab, x, m, x2 []float64, g, n, lp int) { buildTab(tab, x, m, x2, g, n, lp, addRows) }
 
 // buildTab is buildTable for float64 or float32 rows, with add the row
 // kernel of that precision (dst[r] = src[r] + v). The scratch row comes
 // from the caller: a slice handed to a function value escapes, and a local
 // one would be allocated at every call.
-func buildTab[F float32 | float64](tab, x, x2 []F, g, n, lp int, add func(dst, src, v []F, rows, lp int)) {
+func buildTab[F float32 | float64](tab, x, m, x2 []F, g, n, lp int, add func(dst, src, v []F, rows, lp int)) {
 	x2 = x2[:lp]
 	clear(tab[:4*lp])
 	i0 := 4 * g
@@ -64,13 +69,15 @@ func buildTab[F float32 | float64](tab, x, x2 []F, g, n, lp int, add func(dst, s
 		for k, v := range x0 {
 			t2[k] = 2 * v
 		}
+		if m != nil {
+			copy(tab[3*lp:4*lp], m[i0*lp:i0*lp+lp])
+		}
 	}
 	span := 4
 	for s := 1; s < 4; s++ {
 		i := i0 + s
-		// Entries with code 0 (and missing, code 3) at position s copy the
-		// lower table; code 1 adds x_i, code 2 adds 2 x_i.
-		copy(tab[3*span*lp:4*span*lp], tab[:span*lp])
+		// Code 0 at position s copies the lower table; code 1 adds x_i,
+		// code 2 adds 2 x_i, code 3 adds m_i (or copies).
 		if i < n {
 			xi := x[i*lp : i*lp+lp]
 			for k, v := range xi {
@@ -78,9 +85,15 @@ func buildTab[F float32 | float64](tab, x, x2 []F, g, n, lp int, add func(dst, s
 			}
 			add(tab[span*lp:2*span*lp], tab[:span*lp], xi, span, lp)
 			add(tab[2*span*lp:3*span*lp], tab[:span*lp], x2, span, lp)
+			if m != nil {
+				add(tab[3*span*lp:4*span*lp], tab[:span*lp], m[i*lp:i*lp+lp], span, lp)
+			} else {
+				copy(tab[3*span*lp:4*span*lp], tab[:span*lp])
+			}
 		} else {
 			copy(tab[span*lp:2*span*lp], tab[:span*lp])
 			copy(tab[2*span*lp:3*span*lp], tab[:span*lp])
+			copy(tab[3*span*lp:4*span*lp], tab[:span*lp])
 		}
 		span *= 4
 	}
@@ -171,9 +184,9 @@ func appendMissing(dst []int32, row []byte, n int) []int32 {
 }
 
 // genoFirst computes W = Z_b X for the kept markers of a 2-bit chunk into
-// ws.w (row q for sels[q]), and the missing lists ws.miss. The parallel
-// parts are the jobs firstJob and reduceJob, which read the block from
-// ws.raw and ws.sels (no closure, so no allocation per block).
+// ws.w (row q for sels[q]). The parallel parts are the jobs firstJob and
+// reduceJob, which read the block from ws.raw and ws.sels (no closure, so
+// no allocation per block).
 func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	lp, nb := ws.lp, len(sels)
 	ws.raw, ws.sels = raw, sels
@@ -181,27 +194,16 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	nseg := len(op.segs) - 1
 	ws.part = grow(ws.part, nseg*nb*lp)
 	ws.w = grow(ws.w, nb*lp)
-	for len(ws.miss) < nb {
-		ws.miss = append(ws.miss, nil)
-	}
 	ws.scratch = grow(ws.scratch, op.threads*lp)
 	ws.scratch32 = grow32(ws.scratch32, op.threads*lp)
+	for len(ws.miss) < op.threads {
+		ws.miss = append(ws.miss, nil)
+	}
 	op.forEach(ws, nseg, (*Operator).firstJob)
-	if cap(ws.missCut) < nb*(nseg+1) {
-		ws.missCut = make([]int32, nb*(nseg+1))
-	}
-	ws.missCut = ws.missCut[:nb*(nseg+1)]
-	nr := (nb + reduceRange - 1) / reduceRange
-	for len(ws.missR) < nr {
-		ws.missR = append(ws.missR, nil)
-	}
-	op.forEach(ws, nr, (*Operator).reduceJob)
+	op.forEach(ws, (nb+reduceRange-1)/reduceRange, (*Operator).reduceJob)
 }
 
-// reduceRange is the number of consecutive markers of a reduce job. Their
-// missing-call lists share one buffer, in marker order, so the second
-// product reads them as a stream (lists of their own, scattered over the
-// heap, cost a cache miss each there).
+// reduceRange is the number of consecutive markers of a reduce job.
 const reduceRange = 64
 
 // firstJob: the first product's tiles of sample segment sg into its
@@ -213,42 +215,28 @@ func (op *Operator) firstJob(ws *workspace, sg, t int) {
 	op.firstTiles(ws, part, ws.raw, ws.offs, sg, t)
 }
 
-// reduceJob: for the markers of range r, their missing calls, their W
-// rows summed over the segments in order, and the standardization
+// reduceJob: for the markers of range r, their W rows summed over the
+// segments in order, with the standardization and the missing calls
 // applied.
 func (op *Operator) reduceJob(ws *workspace, r, t int) {
-	rb := op.st.RowBytes()
-	buf := ws.missR[r][:0]
 	for q := r * reduceRange; q < min((r+1)*reduceRange, len(ws.sels)); q++ {
-		s := ws.sels[q]
-		k := len(buf)
-		if op.complete[s.ord/64]&(1<<(s.ord%64)) == 0 {
-			// (Missing calls of dropped samples may be listed or not:
-			// their rows of X are zero and their rows of Y unused.)
-			buf = appendMissing(buf, ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], op.n)
-		}
-		// (A buffer that grows leaves earlier lists in the old array,
-		// still valid; in the steady state it does not grow.)
-		ws.miss[q] = buf[k:len(buf):len(buf)]
 		op.reduceMarker(ws, q, t)
 	}
-	ws.missR[r] = buf
 }
 
 // reduceMarker: marker q's W row from its partials and missing calls.
 func (op *Operator) reduceMarker(ws *workspace, q, t int) {
 	lp, nb := ws.lp, len(ws.sels)
-	segs := op.segs
-	nseg := len(segs) - 1
+	nseg := len(op.segs) - 1
 	s := ws.sels[q]
-	// Where the (ascending) missing list crosses each segment start.
-	cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
-	k := 0
-	for sg := 0; sg <= nseg; sg++ {
-		for k < len(ws.miss[q]) && int(ws.miss[q][k]) < segs[sg] {
-			k++
-		}
-		cut[sg] = int32(k)
+	// The samples missing at this marker (none to look for if the counts
+	// say so). Missing calls of dropped samples may be listed or not:
+	// their rows of X are zero.
+	miss := ws.miss[t][:0]
+	if op.complete[s.ord/64]&(1<<(s.ord%64)) == 0 {
+		rb := op.st.RowBytes()
+		miss = appendMissing(miss, ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], op.n)
+		ws.miss[t] = miss
 	}
 	w := ws.w[q*lp : q*lp+lp]
 	copy(w, ws.part[q*lp:q*lp+lp])
@@ -260,18 +248,18 @@ func (op *Operator) reduceMarker(ws *workspace, q, t int) {
 	}
 	mu, inv := op.center[s.ord], op.scale[s.ord]
 	// T - S_j: the sum of X over the samples called at marker j.
-	if len(ws.miss[q]) == 0 {
+	if len(miss) == 0 {
 		for k := range w {
 			w[k] = (w[k] - mu*ws.tot[k]) * inv
 		}
 		return
 	}
 	// S_j, the sum of X over the missing samples.
-	miss := ws.scratch[t*lp : t*lp+lp]
-	sumRows(miss, ws.x, ws.miss[q], lp)
+	sm := ws.scratch[t*lp : t*lp+lp]
+	sumRows(sm, ws.x, miss, lp)
 	called := ws.tot
 	for k := range w {
-		w[k] = (w[k] - mu*(called[k]-miss[k])) * inv
+		w[k] = (w[k] - mu*(called[k]-sm[k])) * inv
 	}
 }
 
@@ -297,8 +285,10 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 	}
 	if ws.fast {
 		ws.wpp32 = grow32(ws.wpp32, nb*lp)
+		ws.mwpp32 = grow32(ws.mwpp32, nb*lp)
 		for i, v := range ws.wpp[:nb*lp] {
 			ws.wpp32[i] = float32(v)
+			ws.mwpp32[i] = float32(ws.mwpp[i])
 		}
 	}
 	op.forEach(ws, len(ws.jobs2)-1, (*Operator).secondJob)
@@ -309,26 +299,15 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 // the tile tables are rebuilt for each such range.
 const secondRange = 4096
 
-// secondJob: the second product's tiles for the samples of job j (a run of
-// whole segments, ws.jobs2), at most secondRange samples at a time, then
-// the missing-call corrections of its segments. Each sample's row of Y
-// takes the same additions in the same order however samples are split
-// into jobs, so jobs can follow the thread count without changing a
-// number.
+// secondJob: the second product for the samples of job j (a run of whole
+// segments, ws.jobs2), at most secondRange samples at a time. Each
+// sample's row of Y takes the same additions in the same order however
+// samples are split into jobs, so jobs can follow the thread count
+// without changing a number.
 func (op *Operator) secondJob(ws *workspace, j, t int) {
-	lp := ws.lp
-	s0, s1 := ws.jobs2[j], ws.jobs2[j+1]
-	a, b := op.segs[s0], op.segs[s1]
+	a, b := op.segs[ws.jobs2[j]], op.segs[ws.jobs2[j+1]]
 	for c := a; c < b; c += secondRange {
 		op.secondTiles(ws, ws.raw, ws.offs, c, min(b, c+secondRange), t)
-	}
-	// Missing calls have z = 0: give back the -mu_j W''_j of btot.
-	nseg := len(op.segs) - 1
-	for sg := s0; sg < s1; sg++ {
-		for q := range ws.sels {
-			cut := ws.missCut[q*(nseg+1) : (q+1)*(nseg+1)]
-			addRow(ws.y, ws.mwpp[q*lp:q*lp+lp], ws.miss[q][cut[sg]:cut[sg+1]], lp)
-		}
 	}
 }
 

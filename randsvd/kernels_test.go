@@ -133,29 +133,48 @@ func TestKernelsMatchGeneric(t *testing.T) {
 }
 
 // TestBuildTable checks the 256-entry group table against its definition
-// sum_s val(code_s(v)) x_s with val = (0, 1, 2, 0) (the 2-bit code of
-// design.md: 0, 1, 2 ALT alleles, 3 missing), including a partial group.
+// sum_s val_s(code_s(v)) with val_s = (0, x_s, 2 x_s, m_s) (the 2-bit code
+// of design.md: 0, 1, 2 ALT alleles, 3 missing; m_s = 0 without m, as in
+// the first product), including partial groups.
 func TestBuildTable(t *testing.T) {
 	r := rand.New(rand.NewPCG(2, 3))
 	lp := 8
 	for _, n := range []int{8, 7, 6, 5} {
-		x := make([]float64, n*lp)
-		for i := range x {
-			x[i] = r.NormFloat64()
-		}
-		tab := make([]float64, 256*lp)
-		buildTable(tab, x, make([]float64, lp), 1, n, lp)
-		val := [4]float64{0, 1, 2, 0}
-		for v := 0; v < 256; v++ {
-			for k := 0; k < lp; k++ {
-				want := 0.0
-				for s := 0; s < 4; s++ {
-					if i := 4 + s; i < n {
-						want += val[(v>>(2*s))&3] * x[i*lp+k]
+		for _, withM := range []bool{false, true} {
+			x := make([]float64, n*lp)
+			m := make([]float64, n*lp)
+			for i := range x {
+				x[i] = r.NormFloat64()
+				m[i] = r.NormFloat64()
+			}
+			tab := make([]float64, 256*lp)
+			mArg := m
+			if !withM {
+				mArg = nil
+			}
+			buildTable(tab, x, mArg, make([]float64, lp), 1, n, lp)
+			for v := 0; v < 256; v++ {
+				for k := 0; k < lp; k++ {
+					want := 0.0
+					for s := 0; s < 4; s++ {
+						i := 4 + s
+						if i >= n {
+							continue
+						}
+						switch (v >> (2 * s)) & 3 {
+						case 1:
+							want += x[i*lp+k]
+						case 2:
+							want += 2 * x[i*lp+k]
+						case 3:
+							if withM {
+								want += m[i*lp+k]
+							}
+						}
 					}
-				}
-				if d := tab[v*lp+k] - want; d > 1e-12 || d < -1e-12 {
-					t.Fatalf("n %d: tab[%d][%d] = %v, want %v", n, v, k, tab[v*lp+k], want)
+					if d := tab[v*lp+k] - want; d > 1e-12 || d < -1e-12 {
+						t.Fatalf("n %d, m %v: tab[%d][%d] = %v, want %v", n, withM, v, k, tab[v*lp+k], want)
+					}
 				}
 			}
 		}

@@ -326,6 +326,7 @@ type workspace struct {
 	fast      bool      // float32 tables and buckets (a fast pass, fast.go)
 	x32       []float32 // fast: rows of x in float32, stride lp
 	wpp32     []float32 // fast: W'' in float32
+	mwpp32    []float32 // fast: mu_j W''_j in float32
 	tabs32    [][]float32
 	x         []float64 // store-sample rows of X (zero for dropped samples), stride lp
 	y         []float64 // store-sample rows of Y, stride lp
@@ -337,9 +338,7 @@ type workspace struct {
 	scratch   []float64 // threads x lp
 	scratch32 []float32 // threads x lp
 	part      []float64 // segments x b x lp partial first products
-	miss      [][]int32 // per block marker: samples with a missing call (in missR)
-	missR     [][]int32 // per range of reduceRange markers: their lists, in order
-	missCut   []int32   // per block marker: where miss crosses each segment start (segments+1)
+	miss      [][]int32 // per thread: the samples missing at the marker being reduced
 	z         []float64 // float stores: b x N standardized block
 	ss        []float64 // float stores: the chunk's per-marker sums of squares (reused)
 	trace     []float64 // float stores: per-marker sum of squares

@@ -95,7 +95,7 @@ func BenchmarkSecondProduct(b *testing.B) {
 					nt := min(ng, nb/4-g)
 					transposeTile(tb, raw, offs, nb, g, nt, ns, 0, rb)
 					for u := 0; u < nt; u++ {
-						buildTable32(tab[u*256*lp:(u+1)*256*lp], wpp, scratch, g+u, nb, lp)
+						buildTable32(tab[u*256*lp:(u+1)*256*lp], wpp, wpp, scratch, g+u, nb, lp)
 					}
 					gather32Tile(y, tab, tb, toffs, 0, nt, ns, lp)
 				}
