@@ -49,9 +49,9 @@ func segments(n int) []int {
 // val_s(0) = 0 and val_s(3) (a missing call) = m_{4g+s}, or 0 if m is nil;
 // rows of indices beyond n count as zero. The first product's tables are
 // over samples (x the rows of X, m nil); the second product's over block
-// markers (x the rows of W”, m those of mu_j W”_j, which give back to a
-// sample missing at marker j the -mu_j W”_j every sample gets). x2 is
-// scratch of lp values.
+// markers (x the rows wpp = W_j / sd_j, m the rows mwpp = mu_j W_j / sd_j,
+// which give back to a sample missing at marker j the -mu_j W_j / sd_j
+// every sample gets). x2 is scratch of lp values.
 func buildTable(tab, x, m, x2 []float64, g, n, lp int) { buildTab(tab, x, m, x2, g, n, lp, addRows) }
 
 // buildTab is buildTable for float64 or float32 rows, with add the row
