@@ -102,7 +102,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 // secondTiles runs the second product for samples [a, b) (a a multiple
 // of 4) as a
 // gather, the first product's kernel on the transposed block: for a tile
-// of groups of four block markers, the group tables of W” (256 rows per
+// of groups of four block markers, the group tables of wpp = W / sd (256 rows per
 // group, like the first product's tables of X) are built, the tile's
 // codes are transposed to one byte per sample and group (transposeTile),
 // and every sample of the segment adds the table rows of its bytes to its

@@ -65,7 +65,7 @@ func BenchmarkTiles32(b *testing.B) {
 
 // BenchmarkSecondProduct times the second product of a fast pass on one
 // block of 2,048 markers for 4,096 samples, as secondTiles runs it
-// (transposeTile, the group tables of W”, the gather), at allele
+// (transposeTile, the group tables of W / sd, the gather), at allele
 // frequencies from common to rare: the gather's cost does not depend on
 // the codes, unlike the bucket scatter it replaced, which slowed down
 // about threefold at frequency 0.03 (repeated updates of the bucket of
