@@ -100,15 +100,15 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 }
 
 // secondTiles runs the second product for samples [a, b) (a a multiple
-// of 4) as a
-// gather, the first product's kernel on the transposed block: for a tile
-// of groups of four block markers, the group tables of wpp = W / sd (256 rows per
-// group, like the first product's tables of X) are built, the tile's
-// codes are transposed to one byte per sample and group (transposeTile),
-// and every sample of the segment adds the table rows of its bytes to its
-// row of ws.y. A gather reads table rows and writes each sample's row
-// once per tile; the scatter it replaces (bucket rows updated in place
-// per marker byte, then the buckets' marginals per sample) stalled on
+// of 16) as a gather, the first product's kernel on the transposed block:
+// for each tile of groups of four block markers, the group tables of the
+// rows wpp = W_j / sd_j (256 rows per group, like the first product's
+// tables of X; missing calls take the rows mwpp, see buildTable) are
+// built, the tile's codes are transposed to one byte per sample and group
+// (transposeTile), and every sample adds the table rows of its bytes to
+// its row of ws.y. A gather reads table rows and writes each sample's row
+// once per tile; the scatter it replaced (bucket rows updated in place per
+// marker byte, then each sample's marginals over the buckets) stalled on
 // repeated updates of the same bucket, which rare variants make common.
 func (op *Operator) secondTiles(ws *workspace, raw []byte, offs []int32, a, b, t int) {
 	lp, nb := ws.lp, len(ws.sels)
