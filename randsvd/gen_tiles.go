@@ -12,6 +12,9 @@
 // product reads a marker's packed row (stride 1), the second a sample's
 // bytes of the transposed block (transposeTile).
 //
+// gatherTileZ<nz>V<nv> are its AVX-512 twins, nz vectors of 8 float64
+// first.
+//
 // gather32V<nv>T<t> are the float32 kernels of fast passes (fast.go) for a
 // chunk of nv vectors of 8 float32 and t tails of 4, and gather32Z<nz>V<nv>T<t>
 // their AVX-512 twins with nz vectors of 16 first (gather32TileGeneric).
@@ -38,84 +41,7 @@ func main() {
 	p("")
 	p("#include \"textflag.h\"")
 	for nv := 1; nv <= 8; nv++ {
-		// Gather: two markers at a time (two independent addition chains,
-		// each in group order), then a last odd marker.
-		p("")
-		p("// func gatherTileV%d(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)", nv)
-		p("TEXT ·gatherTileV%d(SB), NOSPLIT, $0-64", nv)
-		prologue(p, "dst", "tab")
-		p("\tMOVQ stride+56(FP), R10") // R10: the byte stride (ng is reloaded from the frame)
-		p("\tLEAQ (DI)(R11*1), R15")   // second marker's row
-		p("\tCMPQ CX, $2")
-		p("\tJLT g%dsingle", nv)
-		p("g%dpair:", nv)
-		p("\tMOVLQSX (R9), AX")
-		p("\tLEAQ (R8)(AX*1), BX")
-		p("\tMOVLQSX 4(R9), AX")
-		p("\tLEAQ (R8)(AX*1), R14")
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD %d(DI), Y%d", 32*i, i)
-			p("\tVMOVUPD %d(R15), Y%d", 32*i, 8+i)
-		}
-		p("\tMOVQ SI, R13")
-		p("\tMOVQ ng+40(FP), DX")
-		p("g%dpinner:", nv)
-		p("\tMOVBQZX (BX), AX")
-		p("\tIMULQ R11, AX")
-		p("\tADDQ R13, AX")
-		p("\tMOVBQZX (R14), R12")
-		p("\tIMULQ R11, R12")
-		p("\tADDQ R13, R12")
-		for i := 0; i < nv; i++ {
-			p("\tVADDPD %d(AX), Y%d, Y%d", 32*i, i, i)
-			p("\tVADDPD %d(R12), Y%d, Y%d", 32*i, 8+i, 8+i)
-		}
-		p("\tADDQ R10, BX")
-		p("\tADDQ R10, R14")
-		p("\tMOVQ R11, R12")
-		p("\tSHLQ $8, R12")
-		p("\tADDQ R12, R13")
-		p("\tDECQ DX")
-		p("\tJNZ g%dpinner", nv)
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD Y%d, %d(DI)", i, 32*i)
-			p("\tVMOVUPD Y%d, %d(R15)", 8+i, 32*i)
-		}
-		p("\tLEAQ (DI)(R11*2), DI")
-		p("\tLEAQ (R15)(R11*2), R15")
-		p("\tADDQ $8, R9")
-		p("\tSUBQ $2, CX")
-		p("\tCMPQ CX, $2")
-		p("\tJGE g%dpair", nv)
-		p("g%dsingle:", nv)
-		p("\tTESTQ CX, CX")
-		p("\tJZ g%ddone", nv)
-		p("\tMOVQ R11, R12")
-		p("\tSHLQ $8, R12")
-		p("\tMOVLQSX (R9), AX")
-		p("\tLEAQ (R8)(AX*1), BX")
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD %d(DI), Y%d", 32*i, i)
-		}
-		p("\tMOVQ SI, R13")
-		p("\tMOVQ ng+40(FP), DX")
-		p("g%dinner:", nv)
-		p("\tMOVBQZX (BX), AX")
-		p("\tIMULQ R11, AX")
-		p("\tADDQ R13, AX")
-		for i := 0; i < nv; i++ {
-			p("\tVADDPD %d(AX), Y%d, Y%d", 32*i, i, i)
-		}
-		p("\tADDQ R10, BX")
-		p("\tADDQ R12, R13")
-		p("\tDECQ DX")
-		p("\tJNZ g%dinner", nv)
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD Y%d, %d(DI)", i, 32*i)
-		}
-		p("g%ddone:", nv)
-		p("\tVZEROUPPER")
-		p("\tRET")
+		gather64(p, vecs64(0, nv), fmt.Sprintf("V%d", nv), fmt.Sprintf("g%d", nv))
 
 		// Row sums over an index list (the missing calls of a marker).
 		p("")
@@ -174,6 +100,13 @@ func main() {
 		p("\tJNZ a%dloop", nv)
 		p("\tVZEROUPPER")
 		p("\tRET")
+	}
+	// AVX-512 float64 gathers for chunks of 8 to 32 float64: nz ZMM
+	// vectors and at most one YMM.
+	for nz := 1; nz <= 4; nz++ {
+		for nv := 0; nv <= 1 && 8*nz+4*nv <= 32; nv++ {
+			gather64(p, vecs64(nz, nv), fmt.Sprintf("Z%dV%d", nz, nv), fmt.Sprintf("gz%d%d", nz, nv))
+		}
 	}
 	for nv := 0; nv <= 4; nv++ {
 		for tail := 0; tail <= 1; tail++ {
@@ -237,6 +170,109 @@ func main() {
 // prologue loads the arguments: DI, SI the two row arrays, R8 raw, R9
 // offs, CX n, R10 ng, R11 the row stride in bytes, R12 the group stride
 // (256 rows). n and ng are at least 1 (checked by the Go wrapper).
+// gather64 writes gatherTile<name>: the float64 gather for a row chunk
+// laid out as vs (AVX2 YMM vectors, or AVX-512 ZMM ones first). It goes
+// two rows at a time (two independent addition chains, each in group
+// order), then a last odd row.
+func gather64(p func(string, ...any), vs []vec32, name, lbl string) {
+	// Gather: two markers at a time (two independent addition chains,
+	// each in group order), then a last odd marker.
+	p("")
+	p("// func gatherTile%s(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)", name)
+	p("TEXT ·gatherTile%s(SB), NOSPLIT, $0-64", name)
+	prologue(p, "dst", "tab")
+	p("\tMOVQ stride+56(FP), R10") // R10: the byte stride (ng is reloaded from the frame)
+	p("\tLEAQ (DI)(R11*1), R15")   // second marker's row
+	p("\tCMPQ CX, $2")
+	p("\tJLT %ssingle", lbl)
+	p("%spair:", lbl)
+	p("\tMOVLQSX (R9), AX")
+	p("\tLEAQ (R8)(AX*1), BX")
+	p("\tMOVLQSX 4(R9), AX")
+	p("\tLEAQ (R8)(AX*1), R14")
+	for i, v := range vs {
+		p("\tVMOVUPD %d(DI), %s", v.off, v.reg(i))
+		p("\tVMOVUPD %d(R15), %s", v.off, v.reg(8+i))
+	}
+	p("\tMOVQ SI, R13")
+	p("\tMOVQ ng+40(FP), DX")
+	p("%spinner:", lbl)
+	p("\tMOVBQZX (BX), AX")
+	p("\tIMULQ R11, AX")
+	p("\tADDQ R13, AX")
+	p("\tMOVBQZX (R14), R12")
+	p("\tIMULQ R11, R12")
+	p("\tADDQ R13, R12")
+	for i, v := range vs {
+		p("\tVADDPD %d(AX), %s, %s", v.off, v.reg(i), v.reg(i))
+		p("\tVADDPD %d(R12), %s, %s", v.off, v.reg(8+i), v.reg(8+i))
+	}
+	p("\tADDQ R10, BX")
+	p("\tADDQ R10, R14")
+	p("\tMOVQ R11, R12")
+	p("\tSHLQ $8, R12")
+	p("\tADDQ R12, R13")
+	p("\tDECQ DX")
+	p("\tJNZ %spinner", lbl)
+	for i, v := range vs {
+		p("\tVMOVUPD %s, %d(DI)", v.reg(i), v.off)
+		p("\tVMOVUPD %s, %d(R15)", v.reg(8+i), v.off)
+	}
+	p("\tLEAQ (DI)(R11*2), DI")
+	p("\tLEAQ (R15)(R11*2), R15")
+	p("\tADDQ $8, R9")
+	p("\tSUBQ $2, CX")
+	p("\tCMPQ CX, $2")
+	p("\tJGE %spair", lbl)
+	p("%ssingle:", lbl)
+	p("\tTESTQ CX, CX")
+	p("\tJZ %sdone", lbl)
+	p("\tMOVQ R11, R12")
+	p("\tSHLQ $8, R12")
+	p("\tMOVLQSX (R9), AX")
+	p("\tLEAQ (R8)(AX*1), BX")
+	for i, v := range vs {
+		p("\tVMOVUPD %d(DI), %s", v.off, v.reg(i))
+	}
+	p("\tMOVQ SI, R13")
+	p("\tMOVQ ng+40(FP), DX")
+	p("%sinner:", lbl)
+	p("\tMOVBQZX (BX), AX")
+	p("\tIMULQ R11, AX")
+	p("\tADDQ R13, AX")
+	for i, v := range vs {
+		p("\tVADDPD %d(AX), %s, %s", v.off, v.reg(i), v.reg(i))
+	}
+	p("\tADDQ R10, BX")
+	p("\tADDQ R12, R13")
+	p("\tDECQ DX")
+	p("\tJNZ %sinner", lbl)
+	for i, v := range vs {
+		p("\tVMOVUPD %s, %d(DI)", v.reg(i), v.off)
+	}
+	p("%sdone:", lbl)
+	p("\tVZEROUPPER")
+	p("\tRET")
+
+}
+
+// vecs64 lays out a float64 row chunk of nz ZMM vectors (8 float64) and
+// then nv YMM ones (4), as vec32 values (offsets in bytes; width counts
+// 4-byte units, so 16 is a ZMM register and 8 a YMM one).
+func vecs64(nz, nv int) []vec32 {
+	var v []vec32
+	off := 0
+	for i := 0; i < nz; i++ {
+		v = append(v, vec32{off, 16})
+		off += 64
+	}
+	for i := 0; i < nv; i++ {
+		v = append(v, vec32{off, 8})
+		off += 32
+	}
+	return v
+}
+
 func prologue(p func(string, ...any), a0, a1 string) {
 	p("\tMOVQ %s+0(FP), DI", a0)
 	p("\tMOVQ %s+8(FP), SI", a1)

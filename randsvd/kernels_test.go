@@ -55,6 +55,11 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		}
 		ks := []kern{
 			{"gatherTile", func(a []float64) { gatherTile(a, tab, raw, offs, g, ng, stride, lp) }, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, stride, lp) }, nq * lp},
+			{"gatherTile/AVX2", func(a []float64) {
+				defer func(z bool) { useAVX512 = z }(useAVX512)
+				useAVX512 = false
+				gatherTile(a, tab, raw, offs, g, ng, stride, lp)
+			}, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, stride, lp) }, nq * lp},
 		}
 		// Index lists as the missing-call kernels see them: ascending
 		// (repeats allowed).
