@@ -147,6 +147,7 @@ var gatherTiles = [9]tileKernel{nil, gatherTileV1, gatherTileV2, gatherTileV3, g
 
 // The AVX-512 float64 gathers: gatherTileZ<nz>V<nv> handles a row chunk of
 // nz vectors of 8 float64 and nv of 4.
+//
 //go:noescape
 func gatherTileZ1V0(dst, tab *float64, raw *byte, offs *int32, n, ng, lp, stride int)
 
