@@ -138,7 +138,8 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	// Each thread's transposed tile of the second product (secondTiles):
 	// one row per group of the widest tile, at most secondRange samples.
 	tabs += int64(max(tileGroups(int(lp)), tileGroups32(int(lp)))) * int64(min(n, secondRange)+31)
-	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + blockM*lp*4
+	// (X in float32, and the block's W'' and mu W'' rows in float32.)
+	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + 2*blockM*lp*4
 	// The loadings stash's two row buffers and its encoding buffer during
 	// the refinement pass (stash.go).
 	p.KernelBytes += 3 * blockM * lp * 8
