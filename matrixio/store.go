@@ -237,7 +237,7 @@ func RowBytes(c Codec, n int) int {
 
 // DefaultChunkMarkers picks markers per chunk so a decoded chunk is about
 // 1 MiB, between 8 and 8192 markers: large enough that the per-chunk costs
-// of the PCA kernels (group tables, bucket sums) are small against the
+// of the PCA kernels (group tables, block set-up) are small against the
 // per-marker work, small enough that a few chunk buffers stay cheap.
 func DefaultChunkMarkers(c Codec, samples int) int {
 	rb := RowBytes(c, samples)

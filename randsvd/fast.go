@@ -4,14 +4,14 @@ import "encoding/binary"
 
 // Fast passes. The 2-bit kernels are bound by the bytes of table rows they
 // move per packed byte (l float64 values, 8 bytes each), not by
-// arithmetic. A fast pass keeps the group tables, the bucket sums and the
-// second product's weights in float32, which halves that traffic (about
-// twice the kernel throughput on the machines of design.md), while every
-// quantity that accumulates over many terms stays float64: a marker's
-// first product is summed in float32 over one tile of at most 16 groups
-// (64 samples) and then added to float64 partials; the buckets of the
-// second product sum in float32 over one block of markers and are
-// expanded into float64 sample rows. A fast pass is K X to about 1e-7
+// arithmetic. A fast pass keeps the group tables and the second product's
+// weights in float32, which halves that traffic (about twice the kernel
+// throughput on the machines of design.md), while every quantity that
+// accumulates over many terms stays float64: a marker's first product is
+// summed in float32 over one tile of at most 16 groups (64 samples) and
+// then added to float64 partials; a sample's second product likewise over
+// one tile of 16 marker groups (64 markers) before it joins its float64
+// row of Y. A fast pass is K X to about 1e-7
 // relative, so the solver uses fast passes only to find the subspace and
 // finishes with an exact float64 pass (Solve, FastApplier): the reported
 // eigenvalues, residuals, scores and loadings are those of float64

@@ -17,14 +17,18 @@ import (
 // all 256 byte values of G X are tabulated once per chunk (256 rows of l),
 // and then every marker costs one table row added per byte, four samples at
 // a time, with no branch on the genotype: the table lookup over packed bytes
-// of Liberty & Zucker 2009 (the Mailman algorithm). The second product runs
-// the same idea backwards: for a group, W''_j = W_j / sd_j is added into the
-// bucket of marker j's byte, and each of the four samples then takes the
-// buckets whose code for it is 1 once and those whose code is 2 twice.
+// of Liberty & Zucker 2009 (the Mailman algorithm). The second product is
+// the same gather on the transposed block (fast.go, secondTiles): for each
+// group of four block markers the 256 byte values of their rows W_j / sd_j
+// are tabulated (a missing call taking mu_j W_j / sd_j, which gives back
+// its share of the constant -sum_j mu_j W_j / sd_j every sample gets), the
+// block's codes are transposed to one byte per sample and marker group,
+// and each sample adds one table row per byte.
 //
 // Samples are cut into fixed segments of segSamples (independent of the
 // thread count); first-product partials are summed over segments in order,
-// so the result never depends on scheduling.
+// and a sample's second-product sum runs over the block's marker groups in
+// order, so the result never depends on scheduling.
 
 const (
 	segSamples  = 512 // samples per segment for small cohorts

@@ -20,9 +20,9 @@
 // (geno.go). An exact pass (Apply) does all of it in float64: the only
 // rounding is float64 rounding of sums, so results agree with a dense
 // float64 computation to about 1e-13 relative. A fast pass (ApplyFast,
-// fast.go) keeps the group tables, bucket sums and second-product weights
-// in float32 and every long accumulation in float64 (a marker's float32
-// sum covers at most 64 samples before it joins a float64 partial): K X to
+// fast.go) keeps the group tables and second-product weights in float32
+// and every long accumulation in float64 (a float32 sum covers at most 64
+// samples or markers before it joins a float64 row): K X to
 // about 2e-7 relative. Solve uses fast passes only to find the subspace
 // and ends with an exact pass and Rayleigh-Ritz, so eigenvalues,
 // residuals, scores and loadings are float64 results. Float (dosage)
@@ -323,7 +323,7 @@ func (op *Operator) Chunks() int { return len(op.chunks) }
 // in whole vectors.
 type workspace struct {
 	l, lp     int
-	fast      bool      // float32 tables and buckets (a fast pass, fast.go)
+	fast      bool      // float32 tables (a fast pass, fast.go)
 	x32       []float32 // fast: rows of x in float32, stride lp
 	wpp32     []float32 // fast: W'' in float32
 	mwpp32    []float32 // fast: mu_j W''_j in float32
@@ -360,9 +360,10 @@ type workspace struct {
 }
 
 // blockTarget is the number of markers the 2-bit kernels want per block:
-// the per-block costs (group tables, bucket sums) are about 1,000 row
-// operations per group of four samples, so blocks of 2,048 markers keep them
-// small. The block buffer is also kept within max(64 MiB, two X blocks).
+// the per-block cost of the first product's group tables is 256 row
+// operations per group of four samples, so blocks of 2,048 markers keep it
+// small (1,024 and 4,096 were both slower, measured with BenchmarkPass).
+// The block buffer is also kept within max(64 MiB, two X blocks).
 func (op *Operator) blockTarget(lp int) int { return blockTarget(op.n, lp, op.st.RowBytes()) }
 
 // blockTarget is Operator.blockTarget for n samples, padded block width lp
