@@ -43,6 +43,10 @@ type result struct {
 	// Allocations per pass in the steady state (after a first pass).
 	ExactAllocs, FastAllocs float64
 	ExactBytes, FastBytes   float64
+	// Cores busy: the process's CPU time (user + system) over the wall
+	// time of the timed passes. Decoding runs beside the compute threads,
+	// so one compute thread keeps more than one core busy.
+	ExactCores, FastCores float64
 }
 
 func run(path string, l, threads, reps int) error {
@@ -64,28 +68,30 @@ func run(path string, l, threads, reps int) error {
 	y := make([]float64, n*l)
 	ctx := context.Background()
 	res := result{Samples: n, Markers: op.Markers(), L: l, Threads: threads, Reps: reps}
-	time1 := func(apply func(context.Context, []float64, []float64, int) error) (sec, allocs, bytes float64, err error) {
+	time1 := func(apply func(context.Context, []float64, []float64, int) error) (sec, allocs, bytes, cores float64, err error) {
 		if err := apply(ctx, x, y, l); err != nil { // warm: buffers, page cache
-			return 0, 0, 0, err
+			return 0, 0, 0, 0, err
 		}
 		var ts []float64
 		var m0, m1 runtime.MemStats
 		runtime.ReadMemStats(&m0)
+		c0, w0 := cpuSeconds(), time.Now()
 		for i := 0; i < reps; i++ {
 			t0 := time.Now()
 			if err := apply(ctx, x, y, l); err != nil {
-				return 0, 0, 0, err
+				return 0, 0, 0, 0, err
 			}
 			ts = append(ts, time.Since(t0).Seconds())
 		}
+		cores = (cpuSeconds() - c0) / time.Since(w0).Seconds()
 		runtime.ReadMemStats(&m1)
 		slices.Sort(ts)
-		return ts[len(ts)/2], float64(m1.Mallocs-m0.Mallocs) / float64(reps), float64(m1.TotalAlloc-m0.TotalAlloc) / float64(reps), nil
+		return ts[len(ts)/2], float64(m1.Mallocs-m0.Mallocs) / float64(reps), float64(m1.TotalAlloc-m0.TotalAlloc) / float64(reps), cores, nil
 	}
-	if res.ExactSeconds, res.ExactAllocs, res.ExactBytes, err = time1(op.Apply); err != nil {
+	if res.ExactSeconds, res.ExactAllocs, res.ExactBytes, res.ExactCores, err = time1(op.Apply); err != nil {
 		return err
 	}
-	if res.FastSeconds, res.FastAllocs, res.FastBytes, err = time1(op.ApplyFast); err != nil {
+	if res.FastSeconds, res.FastAllocs, res.FastBytes, res.FastCores, err = time1(op.ApplyFast); err != nil {
 		return err
 	}
 	chunks := make([]int, st.NumChunks())
@@ -95,7 +101,7 @@ func run(path string, l, threads, reps int) error {
 	stream := func(context.Context, []float64, []float64, int) error {
 		return st.Stream(ctx, chunks, threads, func(*matrixio.Chunk) error { return nil })
 	}
-	if res.StreamSeconds, _, _, err = time1(stream); err != nil {
+	if res.StreamSeconds, _, _, _, err = time1(stream); err != nil {
 		return err
 	}
 	return json.NewEncoder(os.Stdout).Encode(res)
