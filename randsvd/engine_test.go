@@ -202,6 +202,72 @@ func TestOperatorMatchesDense(t *testing.T) {
 	}
 }
 
+// TestOperatorManySegments is TestOperatorMatchesDense at a sample count
+// with many segments (9,003 samples: 18 segments, not a multiple of four),
+// where the second product splits samples into one job per thread and
+// each job into ranges of at most secondRange samples: exact and fast
+// passes for 1, 2, 3 and 7 threads must be bit-identical, and agree with
+// K X computed as Z^T (Z X) / M from gonum's dense products of denseZ
+// (the dense K itself would take 650 MB), exact to 1e-12 and fast to 1e-6
+// in norm (float32 unit roundoff 6e-8; common practice, no source).
+func TestOperatorManySegments(t *testing.T) {
+	const n, m, l = 9003, 203, 30
+	st, geno := testCohort(t, n, m, 3, 0.05, 0.02, 5, 37)
+	z := denseZ(geno, n)
+	mk, _ := z.Dims()
+	r := rand.New(rand.NewPCG(5, 6))
+	x := make([]float64, n*l)
+	for i := range x {
+		x[i] = r.NormFloat64()
+	}
+	var zx, ref mat.Dense
+	zx.Mul(z, mat.NewDense(n, l, x))
+	ref.Mul(z.T(), &zx)
+	ref.Scale(1/float64(mk), &ref)
+	want := ref.RawMatrix().Data
+	relErr := func(got []float64) float64 {
+		var dn, wn float64
+		for i := range got {
+			dn += (got[i] - want[i]) * (got[i] - want[i])
+			wn += want[i] * want[i]
+		}
+		return math.Sqrt(dn / wn)
+	}
+	var first, firstFast []float64
+	for _, th := range []int{1, 2, 3, 7} {
+		op, err := NewOperator(st, OperatorOptions{Threads: th})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(op.segs)-1 < 8 {
+			t.Fatalf("%d segments: the test wants many", len(op.segs)-1)
+		}
+		got := make([]float64, len(x))
+		fast := make([]float64, len(x))
+		if err := op.Apply(context.Background(), x, got, l); err != nil {
+			t.Fatal(err)
+		}
+		if err := op.ApplyFast(context.Background(), x, fast, l); err != nil {
+			t.Fatal(err)
+		}
+		if e := relErr(got); e > 1e-12 {
+			t.Errorf("threads %d: exact pass relative error %g, want <= 1e-12", th, e)
+		}
+		if e := relErr(fast); e > 1e-6 || e == 0 {
+			t.Errorf("threads %d: fast pass relative error %g, want in (0, 1e-6]", th, e)
+		}
+		if first == nil {
+			first, firstFast = got, fast
+			continue
+		}
+		for i := range got {
+			if got[i] != first[i] || fast[i] != firstFast[i] {
+				t.Fatalf("threads %d: y[%d] differs bitwise from threads 1 (exact %v vs %v, fast %v vs %v)", th, i, got[i], first[i], fast[i], firstFast[i])
+			}
+		}
+	}
+}
+
 // TestSolveAgainstEigenSym compares the solver's eigenpairs with gonum's
 // dense mat.EigenSym of K on structured and null cohorts.
 func TestSolveAgainstEigenSym(t *testing.T) {

@@ -20,8 +20,7 @@
 // their AVX-512 twins with nz vectors of 16 first (gather32TileGeneric).
 //
 // sumRowsV<nv>(dst, x, idx, n, lp): dst = x[idx[0]] + x[idx[1]] + ... in
-// list order, from zero (sumRowsGeneric). addRowV<nv>(y, v, idx, n, lp):
-// y[idx[r]] += v for each r (addRowGeneric). n is at least 1.
+// list order, from zero (sumRowsGeneric). n is at least 1.
 //
 // fmaRowsV<nv>(dst, rows, w, count, wstride, lp): dst = fma(w[c*wstride],
 // rows[c], dst) for c = 0..count-1 in order (fmaRowsGeneric), the dense
@@ -71,35 +70,6 @@ func main() {
 		}
 		p("\tVZEROUPPER")
 		p("\tRET")
-
-		// One row added to the rows of an index list.
-		p("")
-		p("// func addRowV%d(y, v *float64, idx *int32, n, lp int)", nv)
-		p("TEXT ·addRowV%d(SB), NOSPLIT, $0-40", nv)
-		p("\tMOVQ y+0(FP), DI")
-		p("\tMOVQ v+8(FP), SI")
-		p("\tMOVQ idx+16(FP), R9")
-		p("\tMOVQ n+24(FP), CX")
-		p("\tMOVQ lp+32(FP), R11")
-		p("\tSHLQ $3, R11")
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD %d(SI), Y%d", 32*i, i)
-		}
-		p("a%dloop:", nv)
-		p("\tMOVLQSX (R9), AX")
-		p("\tIMULQ R11, AX")
-		p("\tADDQ DI, AX")
-		for i := 0; i < nv; i++ {
-			p("\tVADDPD %d(AX), Y%d, Y%d", 32*i, i, 8+i)
-		}
-		for i := 0; i < nv; i++ {
-			p("\tVMOVUPD Y%d, %d(AX)", 8+i, 32*i)
-		}
-		p("\tADDQ $4, R9")
-		p("\tDECQ CX")
-		p("\tJNZ a%dloop", nv)
-		p("\tVZEROUPPER")
-		p("\tRET")
 	}
 	// AVX-512 float64 gathers for chunks of 8 to 32 float64: nz ZMM
 	// vectors and at most one YMM.
@@ -117,7 +87,6 @@ func main() {
 	}
 	// AVX-512 variants for chunks of up to 32 floats: nz ZMM vectors, then
 	// at most one YMM and one XMM (fewer loads and adds per table row).
-	// (Not for scatters, which were slower with 512-bit stores.)
 	for nz := 1; nz <= 2; nz++ {
 		for nv := 0; nv <= 1; nv++ {
 			for tail := 0; tail <= 1; tail++ {
@@ -167,9 +136,6 @@ func main() {
 	}
 }
 
-// prologue loads the arguments: DI, SI the two row arrays, R8 raw, R9
-// offs, CX n, R10 ng, R11 the row stride in bytes, R12 the group stride
-// (256 rows). n and ng are at least 1 (checked by the Go wrapper).
 // gather64 writes gatherTile<name>: the float64 gather for a row chunk
 // laid out as vs (AVX2 YMM vectors, or AVX-512 ZMM ones first). It goes
 // two rows at a time (two independent addition chains, each in group
@@ -273,6 +239,9 @@ func vecs64(nz, nv int) []vec32 {
 	return v
 }
 
+// prologue loads the arguments: DI, SI the two row arrays, R8 raw, R9
+// offs, CX n, R10 ng, R11 the row stride in bytes, R12 the group stride
+// (256 rows). n and ng are at least 1 (checked by the Go wrapper).
 func prologue(p func(string, ...any), a0, a1 string) {
 	p("\tMOVQ %s+0(FP), DI", a0)
 	p("\tMOVQ %s+8(FP), SI", a1)

@@ -350,14 +350,3 @@ func sumRowsGeneric(dst, x []float64, idx []int32, lp int) {
 		}
 	}
 }
-
-// addRowGeneric adds v[:lp] to the rows y[i] for i in idx.
-func addRowGeneric(y, v []float64, idx []int32, lp int) {
-	v = v[:lp]
-	for _, i := range idx {
-		r := y[int(i)*lp : int(i)*lp+lp]
-		for k := range r {
-			r[k] += v[k]
-		}
-	}
-}

@@ -69,36 +69,11 @@ func sumRowsV7(dst, x *float64, idx *int32, n, lp int)
 //go:noescape
 func sumRowsV8(dst, x *float64, idx *int32, n, lp int)
 
-//go:noescape
-func addRowV1(y, v *float64, idx *int32, n, lp int)
-
-//go:noescape
-func addRowV2(y, v *float64, idx *int32, n, lp int)
-
-//go:noescape
-func addRowV3(y, v *float64, idx *int32, n, lp int)
-
-//go:noescape
-func addRowV4(y, v *float64, idx *int32, n, lp int)
-
-//go:noescape
-func addRowV5(y, v *float64, idx *int32, n, lp int)
-
-//go:noescape
-func addRowV6(y, v *float64, idx *int32, n, lp int)
-
-//go:noescape
-func addRowV7(y, v *float64, idx *int32, n, lp int)
-
-//go:noescape
-func addRowV8(y, v *float64, idx *int32, n, lp int)
-
-// rowKernel is sumRowsV<nv> or addRowV<nv>.
+// rowKernel is sumRowsV<nv>.
 type rowKernel func(a, b *float64, idx *int32, n, lp int)
 
 var (
 	sumRowsKernels = [9]rowKernel{nil, sumRowsV1, sumRowsV2, sumRowsV3, sumRowsV4, sumRowsV5, sumRowsV6, sumRowsV7, sumRowsV8}
-	addRowKernels  = [9]rowKernel{nil, addRowV1, addRowV2, addRowV3, addRowV4, addRowV5, addRowV6, addRowV7, addRowV8}
 )
 
 // sumRows sets dst[:lp] to the sum of the rows x[i] (stride lp) for i in
@@ -115,21 +90,7 @@ func sumRows(dst, x []float64, idx []int32, lp int) {
 	}
 }
 
-// addRow adds v[:lp] to the rows y[i] (stride lp) for i in idx
-// (ascending).
-func addRow(y, v []float64, idx []int32, lp int) {
-	if !useAVX2 || len(idx) == 0 || lp == 0 {
-		addRowGeneric(y, v, idx, lp)
-		return
-	}
-	checkRows(len(v), len(y), idx, lp)
-	for c0 := 0; c0 < lp; c0 += 32 {
-		nv := min(8, (lp-c0)/4)
-		addRowKernels[nv](&y[c0], &v[c0], &idx[0], len(idx), lp)
-	}
-}
-
-// checkRows guards sumRows and addRow: one row of lp, and every indexed row
+// checkRows guards sumRows: one row of lp, and every indexed row
 // inside the row array. Index lists are ascending (findMissing builds them
 // so), so the first and last bound them.
 func checkRows(oneLen, rowsLen int, idx []int32, lp int) {
@@ -192,15 +153,19 @@ func gatherTile(dst, tab []float64, raw []byte, offs []int32, g, ng, stride, lp 
 
 // checkKernel guards the assembly against out-of-range arguments (a
 // programmer error): the rows, the ng 256-row tables and every byte the
-// offsets address must lie inside their slices. Offsets are ascending
-// (rowOffsets and the transposed rows' offsets are), so the first and
-// last bound them.
+// offsets address must lie inside their slices. The second product's
+// offsets (transposedOffset) are not ascending, so all of them are
+// bounded (a scan of one int32 per row, against ng table rows added per
+// row by the kernel).
 func checkKernel(rowsLen, tabLen, rawLen int, offs []int32, g, ng, stride, lp int) {
 	if lp%4 != 0 || rowsLen < len(offs)*lp || tabLen < ng*256*lp || stride < 1 {
 		panic("randsvd: kernel shape out of range")
 	}
-	lo, hi := offs[0], offs[len(offs)-1]
-	if lo > hi || int(lo)+g < 0 || int(hi)+g+(ng-1)*stride >= rawLen {
+	lo, hi := offs[0], offs[0]
+	for _, o := range offs {
+		lo, hi = min(lo, o), max(hi, o)
+	}
+	if int(lo)+g < 0 || int(hi)+g+(ng-1)*stride >= rawLen {
 		panic("randsvd: kernel offsets out of range")
 	}
 }

@@ -15,8 +15,6 @@ func addRows(dst, src, v []float64, rows, lp int) {
 
 func sumRows(dst, x []float64, idx []int32, lp int) { sumRowsGeneric(dst, x, idx, lp) }
 
-func addRow(y, v []float64, idx []int32, lp int) { addRowGeneric(y, v, idx, lp) }
-
 func gather32Tile(dst []float64, tab []float32, raw []byte, offs []int32, g, ng, stride, lp int) {
 	gather32TileGeneric(dst, tab, raw, offs, g, ng, stride, lp)
 }

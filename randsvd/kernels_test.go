@@ -28,17 +28,20 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		ng := 1 + r.IntN(min(12, rowBytes))
 		g := r.IntN(rowBytes - ng + 1)
 		// A marker's packed row (stride 1, the first product) or a
-		// transposed block (rows of groups stride bytes apart, the second);
-		// the bytes read stay inside raw either way.
+		// transposed block (the second product: group rows stride bytes
+		// apart, samples at transposedOffset, not ascending).
 		stride := 1
 		if trial%2 == 1 {
-			stride = 1 + r.IntN(rowBytes)
+			stride = (nq + 31) &^ 31
 			g = 0
 			ng = 1 + r.IntN(4)
-			for q := range offs {
-				offs[q] = int32(r.IntN(len(raw) - (ng-1)*stride))
+			raw = make([]byte, ng*stride)
+			for i := range raw {
+				raw[i] = byte(r.Uint32())
 			}
-			slices.Sort(offs)
+			for q := range offs {
+				offs[q] = transposedOffset(q)
+			}
 		}
 		tab := make([]float64, ng*256*lp)
 		for i := range tab {
@@ -68,7 +71,6 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			idx[i] = int32(r.IntN(nq))
 		}
 		slices.Sort(idx)
-		one := src[:lp]
 		// Dense float rows: weights contiguous (first product) or strided
 		// (second product).
 		wstride := 1 + r.IntN(5)
@@ -82,7 +84,6 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		)
 		ks = append(ks,
 			kern{"sumRows", func(a []float64) { sumRows(a, src, idx, lp) }, func(a []float64) { sumRowsGeneric(a, src, idx, lp) }, lp},
-			kern{"addRow", func(a []float64) { addRow(a, one, idx, lp) }, func(a []float64) { addRowGeneric(a, one, idx, lp) }, nq * lp},
 		)
 		// The float32 kernels of fast passes, on rows of lp32 (multiples
 		// of 4: vectors of 8 and a tail of 4).
@@ -214,6 +215,16 @@ func TestFindMissing(t *testing.T) {
 			got := findMissing(row, n, nil)
 			if !slices.Equal(got, want) {
 				t.Fatalf("p %.2f, %d bytes, n %d: got %v, want %v", pMiss, nbytes, n, got, want)
+			}
+			// Appending after a prefix, into a buffer with room to spare
+			// and one without (the per-thread scratch is reused so).
+			for _, spare := range []int{0, 3, 100} {
+				prefix := []int32{-7, -5}
+				buf := append(make([]int32, 0, len(prefix)+spare), prefix...)
+				got = appendMissing(buf, row, n)
+				if !slices.Equal(got[:2], prefix) || !slices.Equal(got[2:], want) {
+					t.Fatalf("p %.2f, %d bytes, n %d, spare %d: got %v, want %v after %v", pMiss, nbytes, n, spare, got, want, prefix)
+				}
 			}
 		}
 	}

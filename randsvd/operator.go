@@ -429,7 +429,7 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 			ws.tabs32[t] = make([]float32, tileGroups32(lp)*256*lp)
 		}
 	}
-	if ws.tbuf == nil && !op.float {
+	if second && ws.tbuf == nil && !op.float {
 		// Second-product jobs: the segments split into about one run per
 		// thread (secondJob), each transposed secondRange samples at a time
 		// at most, tiles as wide as the widest of either precision.

@@ -218,7 +218,7 @@ func TestClusterSlurm(t *testing.T) {
 	gotA := clOutputs(t, prefixA)
 	checkSame("second run", prefixB, gotA)
 	// Against clinal pca (the single-process command is the reference):
-	// both iterate with fast passes, whose float32 bucket sums a shard split
+	// both iterate with fast passes, whose float32 tile sums a shard split
 	// changes, and finish exactly, so eigenvalues agree to 1e-10 relative
 	// and scores and loadings to 1e-6, the solver's tolerance (as in
 	// TestClusterLocalMatchesPCA, which also checks --exact-passes to 1e-10).

@@ -276,7 +276,7 @@ func clPlanAndRun(t *testing.T, store, runDir, prefix string, shards int, extra 
 // byte-identical files. With --exact-passes both iterate in float64 and
 // agree to rounding: eigenvalues to 1e-12 relative, scores and loadings to
 // 1e-10. By default both iterate with float32 tables, whose sums a shard
-// split changes (the buckets of the second product sum over different
+// split changes (the second product's float32 tile sums run over different
 // blocks of markers), and finish with exact passes: eigenvalues (exact
 // Rayleigh-Ritz values) still agree to 1e-10, and scores and loadings to
 // 1e-6, the solver's tolerance (each run's vectors are that close to the
