@@ -100,8 +100,10 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 }
 
 // secondTiles runs the second product for samples [a, b) (a a multiple
-// of 16) as a gather, the first product's kernel on the transposed block:
-// for each tile of groups of four block markers, the group tables of the
+// of 16) and the block's marker groups [g0, g1) (whole tiles), adding to
+// the rows of dst, as a gather, the first product's kernel on the
+// transposed block: for each tile of groups of four block markers, the
+// group tables of the
 // rows wpp = W_j / sd_j (256 rows per group, like the first product's
 // tables of X; missing calls take the rows mwpp, see buildTable) are
 // built, the tile's codes are transposed to one byte per sample and group
@@ -110,35 +112,39 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 // once per tile; the scatter it replaced (bucket rows updated in place per
 // marker byte, then each sample's marginals over the buckets) stalled on
 // repeated updates of the same bucket, which rare variants make common.
-func (op *Operator) secondTiles(ws *workspace, raw []byte, offs []int32, a, b, t int) {
+func (op *Operator) secondTiles(ws *workspace, dst []float64, raw []byte, offs []int32, a, b, g0, g1, t int) {
 	lp, nb := ws.lp, len(ws.sels)
 	pa, pb := a/4, (b+3)/4
-	ngroups := (nb + 3) / 4
 	tb := ws.tbuf[t]
-	var ng int
-	if ws.fast {
-		ng = tileGroups32(lp)
-	} else {
-		ng = tileGroups(lp)
-	}
+	ng := ws.secondTile()
 	toffs := ws.toffs[:b-a]
-	for g := 0; g < ngroups; g += ng {
-		nt := min(ng, ngroups-g)
+	dst = dst[a*lp : b*lp]
+	for g := g0; g < g1; g += ng {
+		nt := min(ng, g1-g)
 		transposeTile(tb, raw, offs, nb, g, nt, ws.tstride, pa, pb)
 		if ws.fast {
 			tab := ws.tabs32[t]
 			for u := 0; u < nt; u++ {
 				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.wpp32, ws.mwpp32, ws.scratch32[t*lp:(t+1)*lp], g+u, nb, lp)
 			}
-			gather32Tile(ws.y[a*lp:b*lp], tab, tb, toffs, 0, nt, ws.tstride, lp)
+			gather32Tile(dst, tab, tb, toffs, 0, nt, ws.tstride, lp)
 			continue
 		}
 		tab := ws.tabs[t]
 		for u := 0; u < nt; u++ {
 			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.wpp, ws.mwpp, ws.scratch[t*lp:(t+1)*lp], g+u, nb, lp)
 		}
-		gatherTile(ws.y[a*lp:b*lp], tab, tb, toffs, 0, nt, ws.tstride, lp)
+		gatherTile(dst, tab, tb, toffs, 0, nt, ws.tstride, lp)
 	}
+}
+
+// secondTile is the number of marker groups in a tile of the second
+// product: as many as the first product's tables of that precision.
+func (ws *workspace) secondTile() int {
+	if ws.fast {
+		return tileGroups32(ws.lp)
+	}
+	return tileGroups(ws.lp)
 }
 
 // The transposed block. For samples [a, b) and the groups of a tile, the

@@ -343,20 +343,22 @@ type workspace struct {
 	ss        []float64 // float stores: the chunk's per-marker sums of squares (reused)
 	trace     []float64 // float stores: per-marker sum of squares
 	tabs      [][]float64
-	tbuf      [][]byte // per thread: a tile of the block transposed (transposeTile)
-	toffs     []int32  // each sample's offset in a transposed row (transposedOffset)
-	tstride   int      // bytes per transposed row (one group of markers)
-	jobs2     []int    // second-product jobs: segment boundaries (secondJob)
-	block     []byte   // kept rows of consecutive chunks, gathered into one block
-	bsels     []sel    // their selections (off = row within block)
-	csels     []sel    // selections of the chunk being processed
-	raw       []byte   // the block being processed (read by the jobs)
-	sels      []sel    // its selections
-	pool      chan int // the pass's helper goroutines (nil: run in the caller)
-	run       jobRun   // the job they are running
-	offs      []int32  // row offsets of the block being processed
-	err       error    // first error of a MarkerProducts callback
-	capture   *stash   // set during applyCapture: W rows go there too
+	tbuf      [][]byte    // per thread: a tile of the block transposed (transposeTile)
+	toffs     []int32     // each sample's offset in a transposed row (transposedOffset)
+	tstride   int         // bytes per transposed row (one group of markers)
+	jobs2     []int       // second-product sample jobs: segment boundaries (secondJob)
+	parts2    int         // second-product marker parts (secondParts)
+	ypart     [][]float64 // rows of Y for marker parts 1, 2, ... (n x lp each)
+	block     []byte      // kept rows of consecutive chunks, gathered into one block
+	bsels     []sel       // their selections (off = row within block)
+	csels     []sel       // selections of the chunk being processed
+	raw       []byte      // the block being processed (read by the jobs)
+	sels      []sel       // its selections
+	pool      chan int    // the pass's helper goroutines (nil: run in the caller)
+	run       jobRun      // the job they are running
+	offs      []int32     // row offsets of the block being processed
+	err       error       // first error of a MarkerProducts callback
+	capture   *stash      // set during applyCapture: W rows go there too
 }
 
 // blockTarget is the number of markers the 2-bit kernels want per block:
@@ -430,11 +432,17 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		}
 	}
 	if second && ws.tbuf == nil && !op.float {
-		// Second-product jobs: the segments split into about one run per
-		// thread (secondJob), each transposed secondRange samples at a time
-		// at most, tiles as wide as the widest of either precision.
+		// Second-product units (secondJob): marker parts (secondParts) times
+		// sample jobs, the segments split into runs so that there are about
+		// as many units as threads; each transposed secondRange samples at
+		// a time at most, tiles as wide as the widest of either precision.
 		nseg := len(op.segs) - 1
-		nj := min(nseg, op.threads)
+		ws.parts2 = secondParts(op.n)
+		nj := min(nseg, max(1, (op.threads+ws.parts2-1)/ws.parts2))
+		ws.ypart = make([][]float64, ws.parts2-1)
+		for p := range ws.ypart {
+			ws.ypart[p] = make([]float64, op.n*lp)
+		}
 		ws.jobs2 = make([]int, nj+1)
 		for j := range ws.jobs2 {
 			ws.jobs2[j] = j * nseg / nj
