@@ -6,9 +6,9 @@ package main
 // agree). Rerun clinal bench on your own machine for a model of it.
 const defaultModelJSON = `{
   "comment": "clinal bench cost model; see benchmarks/scaling/README.md",
-  "created": "2026-12-02T11:58:24Z",
+  "created": "2026-12-02T13:32:20Z",
   "machine": {
-    "cpu": "AMD EPYC",
+    "cpu": "Intel(R) Xeon(R) Processor",
     "cpus": 2,
     "arch": "amd64",
     "go": "go1.26.8",
@@ -35,19 +35,19 @@ const defaultModelJSON = `{
       "table_bytes"
     ],
     "coefficients": [
-      2763006.2832456166,
-      1.7800898415156297,
-      0.49283128022305545,
-      0.4680295410277142
+      4674805.476280984,
+      1.5965918483948496,
+      0.45858339546396504,
+      0.47287524695546135
     ],
-    "max_relative_residual": 0.05159901932779698,
-    "leave_one_out_max_relative_error": 0.08375709267956988,
+    "max_relative_residual": 0.060332973979266846,
+    "leave_one_out_max_relative_error": 0.12852968696212486,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 55275520,
-      "predicted": 55100738.98030465,
-      "relative_error": -0.0031619968422793576
+      "measured": 55681024,
+      "predicted": 54696244.55364643,
+      "relative_error": -0.01768608720905651
     }
   },
   "wall": {
@@ -60,20 +60,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.10659626571760848,
-      7.930980445843385e-11,
-      7.834434187075502e-9,
-      0.000005588820959798713,
-      0.000009452593175374769
+      0.11767600382696264,
+      7.64181401758506e-11,
+      8.027938425321297e-9,
+      0.0000054166772225081655,
+      0.00000889704795197321
     ],
-    "max_relative_residual": 0.24006602609848948,
-    "leave_one_out_max_relative_error": 0.2606314565421064,
+    "max_relative_residual": 0.29521784195435574,
+    "leave_one_out_max_relative_error": 0.3166580999417459,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 3.068936568,
-      "predicted": 3.4532139406564375,
-      "relative_error": 0.12521515650187198
+      "measured": 3.054284272,
+      "predicted": 3.425725710369717,
+      "relative_error": 0.12161325053299343
     }
   },
   "cpu": {
@@ -86,20 +86,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.14877978983183407,
-      7.213765850089399e-11,
-      6.051459035197183e-9,
-      0.000007472352834823013,
-      0.000016896815622295948
+      0.17580104833178234,
+      6.753294302117645e-11,
+      6.334689593228546e-9,
+      0.000007117153237823588,
+      0.00001444350836229326
     ],
-    "max_relative_residual": 0.19439985710175967,
-    "leave_one_out_max_relative_error": 0.20799827051621644,
+    "max_relative_residual": 0.2425359826171669,
+    "leave_one_out_max_relative_error": 0.2600732427274298,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 5.096666,
-      "predicted": 5.618932161411652,
-      "relative_error": 0.10247211832434222
+      "measured": 5.01656,
+      "predicted": 5.536263059964746,
+      "relative_error": 0.10359749708261146
     }
   },
   "points": [
@@ -113,15 +113,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.258145531,
-      "pca_cpu_seconds": 0.399136,
-      "solve_wall_seconds": 0.096090554,
-      "solve_cpu_seconds": 0.14690200000000003,
-      "pca_peak_rss_bytes": 41287680,
+      "pca_wall_seconds": 0.256815951,
+      "pca_cpu_seconds": 0.400753,
+      "solve_wall_seconds": 0.101470528,
+      "solve_cpu_seconds": 0.16152,
+      "pca_peak_rss_bytes": 41041920,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 3096000,
-        "other_bytes": 68757507
+        "other_bytes": 72259139
       }
     },
     {
@@ -134,15 +134,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.411281233,
-      "pca_cpu_seconds": 0.636033,
-      "solve_wall_seconds": 0.159761289,
-      "solve_cpu_seconds": 0.27092700000000003,
-      "pca_peak_rss_bytes": 41164800,
+      "pca_wall_seconds": 0.404684225,
+      "pca_cpu_seconds": 0.6324670000000001,
+      "solve_wall_seconds": 0.158484026,
+      "solve_cpu_seconds": 0.260117,
+      "pca_peak_rss_bytes": 41848832,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 6096000,
-        "other_bytes": 68757507
+        "other_bytes": 72259139
       }
     },
     {
@@ -155,15 +155,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.674033433,
-      "pca_cpu_seconds": 1.035924,
-      "solve_wall_seconds": 0.243232048,
-      "solve_cpu_seconds": 0.402873,
-      "pca_peak_rss_bytes": 45023232,
+      "pca_wall_seconds": 0.667944281,
+      "pca_cpu_seconds": 1.033732,
+      "solve_wall_seconds": 0.237392797,
+      "solve_cpu_seconds": 0.4024559999999999,
+      "pca_peak_rss_bytes": 48050176,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 12096000,
-        "other_bytes": 68774487
+        "other_bytes": 72276119
       }
     },
     {
@@ -176,15 +176,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.296765326,
-      "pca_cpu_seconds": 1.9803739999999999,
-      "solve_wall_seconds": 0.462329629,
-      "solve_cpu_seconds": 0.7986239999999999,
-      "pca_peak_rss_bytes": 49602560,
+      "pca_wall_seconds": 1.248179423,
+      "pca_cpu_seconds": 1.9134149999999999,
+      "solve_wall_seconds": 0.426924855,
+      "solve_cpu_seconds": 0.7489650000000001,
+      "pca_peak_rss_bytes": 51015680,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 24096000,
-        "other_bytes": 68774487
+        "other_bytes": 72276119
       }
     },
     {
@@ -197,15 +197,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.360793514,
-      "pca_cpu_seconds": 0.56133,
-      "solve_wall_seconds": 0.160146056,
-      "solve_cpu_seconds": 0.248059,
-      "pca_peak_rss_bytes": 39137280,
+      "pca_wall_seconds": 0.386323594,
+      "pca_cpu_seconds": 0.601162,
+      "solve_wall_seconds": 0.164994879,
+      "solve_cpu_seconds": 0.2641,
+      "pca_peak_rss_bytes": 39862272,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 3192000,
-        "other_bytes": 63633623
+        "other_bytes": 65832935
       }
     },
     {
@@ -218,15 +218,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.569183495,
-      "pca_cpu_seconds": 0.89959,
-      "solve_wall_seconds": 0.230582801,
-      "solve_cpu_seconds": 0.3844000000000001,
-      "pca_peak_rss_bytes": 42094592,
+      "pca_wall_seconds": 0.603636508,
+      "pca_cpu_seconds": 0.949057,
+      "solve_wall_seconds": 0.249452895,
+      "solve_cpu_seconds": 0.40442500000000003,
+      "pca_peak_rss_bytes": 41439232,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 6192000,
-        "other_bytes": 63640610
+        "other_bytes": 65839922
       }
     },
     {
@@ -239,15 +239,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.0325539479999999,
-      "pca_cpu_seconds": 1.6438119999999998,
-      "solve_wall_seconds": 0.435180462,
-      "solve_cpu_seconds": 0.7472660000000001,
-      "pca_peak_rss_bytes": 43737088,
+      "pca_wall_seconds": 1.066347,
+      "pca_cpu_seconds": 1.6516130000000002,
+      "solve_wall_seconds": 0.429890029,
+      "solve_cpu_seconds": 0.702738,
+      "pca_peak_rss_bytes": 43929600,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 12192000,
-        "other_bytes": 63650756
+        "other_bytes": 65850068
       }
     },
     {
@@ -260,15 +260,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.918084745,
-      "pca_cpu_seconds": 3.030067,
-      "solve_wall_seconds": 0.755018796,
-      "solve_cpu_seconds": 1.3280050000000003,
-      "pca_peak_rss_bytes": 51011584,
+      "pca_wall_seconds": 1.9749106109999999,
+      "pca_cpu_seconds": 3.0931119999999996,
+      "solve_wall_seconds": 0.783990171,
+      "solve_cpu_seconds": 1.3140379999999998,
+      "pca_peak_rss_bytes": 48709632,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 24192000,
-        "other_bytes": 63650756
+        "other_bytes": 65850068
       }
     },
     {
@@ -281,15 +281,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.626546267,
-      "pca_cpu_seconds": 1.004541,
-      "solve_wall_seconds": 0.306423577,
-      "solve_cpu_seconds": 0.5013110000000001,
-      "pca_peak_rss_bytes": 44789760,
+      "pca_wall_seconds": 0.596755089,
+      "pca_cpu_seconds": 0.9296389999999999,
+      "solve_wall_seconds": 0.286331755,
+      "solve_cpu_seconds": 0.447784,
+      "pca_peak_rss_bytes": 44793856,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 3384000,
-        "other_bytes": 64610593
+        "other_bytes": 66526465
       }
     },
     {
@@ -302,15 +302,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.897417503,
-      "pca_cpu_seconds": 1.445807,
-      "solve_wall_seconds": 0.375277081,
-      "solve_cpu_seconds": 0.6614590000000001,
-      "pca_peak_rss_bytes": 46227456,
+      "pca_wall_seconds": 0.893381517,
+      "pca_cpu_seconds": 1.4400739999999999,
+      "solve_wall_seconds": 0.376271252,
+      "solve_cpu_seconds": 0.6419,
+      "pca_peak_rss_bytes": 46428160,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 6384000,
-        "other_bytes": 64615291
+        "other_bytes": 66531163
       }
     },
     {
@@ -323,15 +323,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.654024191,
-      "pca_cpu_seconds": 2.743125,
-      "solve_wall_seconds": 0.722854058,
-      "solve_cpu_seconds": 1.3167740000000001,
-      "pca_peak_rss_bytes": 48640000,
+      "pca_wall_seconds": 1.605273344,
+      "pca_cpu_seconds": 2.6318889999999997,
+      "solve_wall_seconds": 0.685707197,
+      "solve_cpu_seconds": 1.2202859999999998,
+      "pca_peak_rss_bytes": 49033216,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 12384000,
-        "other_bytes": 64619842
+        "other_bytes": 66535714
       }
     },
     {
@@ -344,15 +344,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 3.068936568,
-      "pca_cpu_seconds": 5.096666,
-      "solve_wall_seconds": 1.293674835,
-      "solve_cpu_seconds": 2.410319,
-      "pca_peak_rss_bytes": 55275520,
+      "pca_wall_seconds": 3.054284272,
+      "pca_cpu_seconds": 5.01656,
+      "solve_wall_seconds": 1.298214487,
+      "solve_cpu_seconds": 2.3372339999999996,
+      "pca_peak_rss_bytes": 55681024,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 24384000,
-        "other_bytes": 64619842
+        "other_bytes": 66535714
       }
     },
     {
@@ -365,15 +365,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.65260128,
-      "pca_cpu_seconds": 1.020356,
-      "solve_wall_seconds": 0.32150415,
-      "solve_cpu_seconds": 0.5220670000000001,
-      "pca_peak_rss_bytes": 58765312,
+      "pca_wall_seconds": 0.685509421,
+      "pca_cpu_seconds": 1.056125,
+      "solve_wall_seconds": 0.347279415,
+      "solve_cpu_seconds": 0.5551550000000001,
+      "pca_peak_rss_bytes": 57491456,
       "plan": {
         "solver_bytes": 10240000,
         "table_bytes": 2268000,
-        "other_bytes": 68340756
+        "other_bytes": 69619700
       }
     },
     {
@@ -386,15 +386,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 8,
       "repeats": 5,
-      "pca_wall_seconds": 0.897827825,
-      "pca_cpu_seconds": 1.417017,
-      "solve_wall_seconds": 0.492255634,
-      "solve_cpu_seconds": 0.773554,
-      "pca_peak_rss_bytes": 80908288,
+      "pca_wall_seconds": 0.962946172,
+      "pca_cpu_seconds": 1.465797,
+      "solve_wall_seconds": 0.554053776,
+      "solve_cpu_seconds": 0.831755,
+      "pca_peak_rss_bytes": 77598720,
       "plan": {
         "solver_bytes": 20480000,
         "table_bytes": 2286000,
-        "other_bytes": 77691277
+        "other_bytes": 78970221
       }
     },
     {
@@ -407,15 +407,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 9,
       "repeats": 5,
-      "pca_wall_seconds": 1.6692092459999999,
-      "pca_cpu_seconds": 2.68062,
-      "solve_wall_seconds": 1.030591379,
-      "solve_cpu_seconds": 1.574157,
-      "pca_peak_rss_bytes": 121151488,
+      "pca_wall_seconds": 1.812004508,
+      "pca_cpu_seconds": 2.685295,
+      "solve_wall_seconds": 1.188285596,
+      "solve_cpu_seconds": 1.648863,
+      "pca_peak_rss_bytes": 111632384,
       "plan": {
         "solver_bytes": 40960000,
         "table_bytes": 3822000,
-        "other_bytes": 97018546
+        "other_bytes": 98297490
       }
     },
     {
@@ -428,15 +428,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 2.543686453,
-      "pca_cpu_seconds": 3.886908,
-      "solve_wall_seconds": 0.866169852,
-      "solve_cpu_seconds": 1.493905,
-      "pca_peak_rss_bytes": 61710336,
+      "pca_wall_seconds": 2.423844183,
+      "pca_cpu_seconds": 3.7329540000000003,
+      "solve_wall_seconds": 0.772115632,
+      "solve_cpu_seconds": 1.408182,
+      "pca_peak_rss_bytes": 63528960,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 48096000,
-        "other_bytes": 68774487
+        "other_bytes": 72276119
       }
     }
   ]
