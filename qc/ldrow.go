@@ -192,19 +192,29 @@ func pairR2(x, y *ldRow) float64 {
 // over the samples called in both (pairwise complete), from population
 // counts of the bit planes. The cross sum needs only the b planes (they
 // are 0 wherever a call is missing); the single-marker sums over the
-// pairwise complete samples are the marker's own sums corrected at the
-// other marker's missing samples when both lists are short, else counted
-// from the planes. It is 0 when either marker is constant over those
-// samples (r undefined: such a pair never prunes).
+// pairwise complete samples are counted from the planes too, or, one word
+// at a time (no AVX-512 population count) when both missing lists are
+// short, taken as the marker's own sums corrected at the other marker's
+// missing samples. It is 0 when either marker is constant over those
+// samples (r undefined: such a pair never prunes). Every sum is an exact
+// integer, so the paths agree to the bit.
 func genoR2(x, y *ldRow) float64 {
-	var t int
-	for k := range x.b1 {
-		x1, x2, y1, y2 := x.b1[k], x.b2[k], y.b1[k], y.b2[k]
-		t += bits.OnesCount64(x1&y1) + bits.OnesCount64(x1&y2) + bits.OnesCount64(x2&y1) + bits.OnesCount64(x2&y2)
-	}
-	sxy := int64(t)
-	var n, sx, sxx, sy, syy int64
-	if x.missOK && y.missOK {
+	var n, sx, sxx, sy, syy, sxy int64
+	if useVPOPCNT || !(x.missOK && y.missOK) {
+		s := pairSums(x, y)
+		sxy = s[0] + s[1] + 3*s[2]
+		n = s[3]
+		sx, sxx = s[4]+s[5], s[4]+3*s[5]
+		sy, syy = s[6]+s[7], s[6]+3*s[7]
+	} else {
+		var a, bc, d int
+		for k := range x.b1 {
+			x1, x2, y1, y2 := x.b1[k], x.b2[k], y.b1[k], y.b2[k]
+			a += bits.OnesCount64(x1 & y1)
+			bc += bits.OnesCount64(x1&y2 ^ x2&y1)
+			d += bits.OnesCount64(x2 & y2)
+		}
+		sxy = int64(a + bc + 3*d)
 		n, sx, sxx, sy, syy = x.n-int64(len(y.miss)), x.sx, x.sxx, y.sx, y.sxx
 		for _, i := range y.miss {
 			if x.c[i>>6]&(1<<(i&63)) == 0 {
@@ -223,19 +233,6 @@ func genoR2(x, y *ldRow) float64 {
 			sy -= v
 			syy -= v * v
 		}
-	} else {
-		var tn, tx1, tx2, ty1, ty2 int
-		for k := range x.c {
-			cx, cy := x.c[k], y.c[k]
-			tn += bits.OnesCount64(cx & cy)
-			tx1 += bits.OnesCount64(x.b1[k] & cy)
-			tx2 += bits.OnesCount64(x.b2[k] & cy)
-			ty1 += bits.OnesCount64(y.b1[k] & cx)
-			ty2 += bits.OnesCount64(y.b2[k] & cx)
-		}
-		n = int64(tn)
-		sx, sxx = int64(tx1+tx2), int64(tx1+3*tx2)
-		sy, syy = int64(ty1+ty2), int64(ty1+3*ty2)
 	}
 	cov := n*sxy - sx*sy
 	vx := n*sxx - sx*sx
@@ -245,6 +242,31 @@ func genoR2(x, y *ldRow) float64 {
 	}
 	c := float64(cov)
 	return c * c / (float64(vx) * float64(vy))
+}
+
+// pairSumsFrom adds to s, from word k on, the population counts of a pair
+// of rows: with a = x1&y1, b = x1&y2, c = x2&y1 and d = x2&y2, s[0] counts
+// a, s[1] b^c and s[2] d, so that the cross sum of g_x g_y = (x1 + x2)
+// (y1 + y2) is s[0] + s[1] + 3 s[2] (b&c is d, as x2 lies in x1 and y2 in
+// y1, and b + c = (b^c) + 2 (b&c)); s[3] counts the samples called in
+// both, s[4] and s[5] x1 and x2 there (so x's sums are s[4] + s[5] and
+// s[4] + 3 s[5]), s[6] and s[7] likewise for y.
+func pairSumsFrom(s *[8]int64, x, y *ldRow, k int) {
+	var t [8]int
+	for ; k < len(x.c); k++ {
+		cx, x1, x2, cy, y1, y2 := x.c[k], x.b1[k], x.b2[k], y.c[k], y.b1[k], y.b2[k]
+		t[0] += bits.OnesCount64(x1 & y1)
+		t[1] += bits.OnesCount64(x1&y2 ^ x2&y1)
+		t[2] += bits.OnesCount64(x2 & y2)
+		t[3] += bits.OnesCount64(cx & cy)
+		t[4] += bits.OnesCount64(x1 & cy)
+		t[5] += bits.OnesCount64(x2 & cy)
+		t[6] += bits.OnesCount64(y1 & cx)
+		t[7] += bits.OnesCount64(y2 & cx)
+	}
+	for i, v := range t {
+		s[i] += int64(v)
+	}
 }
 
 // floatR2 is genoR2 for float values (NaN missing), in float64 with
