@@ -22,6 +22,10 @@ func pairSums(x, y *ldRow) (s [8]int64) {
 	k := 0
 	if useVPOPCNT && len(x.c) >= 8 {
 		k = len(x.c) &^ 7
+		// The assembly reads k words of all six planes.
+		if min(len(x.b1), len(x.b2), len(y.c), len(y.b1), len(y.b2)) < k {
+			panic("qc: LD rows of different lengths")
+		}
 		pairSums8(&s, &x.c[0], &x.b1[0], &x.b2[0], &y.c[0], &y.b1[0], &y.b2[0], k/8)
 	}
 	pairSumsFrom(&s, x, y, k)
