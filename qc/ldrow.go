@@ -199,49 +199,64 @@ func pairR2(x, y *ldRow) float64 {
 // samples (r undefined: such a pair never prunes). Every sum is an exact
 // integer, so the paths agree to the bit.
 func genoR2(x, y *ldRow) float64 {
-	var n, sx, sxx, sy, syy, sxy int64
-	if useVPOPCNT || !(x.missOK && y.missOK) {
-		s := pairSums(x, y)
-		sxy = s[0] + s[1] + 3*s[2]
-		n = s[3]
-		sx, sxx = s[4]+s[5], s[4]+3*s[5]
-		sy, syy = s[6]+s[7], s[6]+3*s[7]
+	var m pairMoments
+	if useVPOPCNT && len(x.c) >= 8 || !(x.missOK && y.missOK) {
+		m = countedMoments(x, y)
 	} else {
-		var a, bc, d int
-		for k := range x.b1 {
-			x1, x2, y1, y2 := x.b1[k], x.b2[k], y.b1[k], y.b2[k]
-			a += bits.OnesCount64(x1 & y1)
-			bc += bits.OnesCount64(x1&y2 ^ x2&y1)
-			d += bits.OnesCount64(x2 & y2)
-		}
-		sxy = int64(a + bc + 3*d)
-		n, sx, sxx, sy, syy = x.n-int64(len(y.miss)), x.sx, x.sxx, y.sx, y.sxx
-		for _, i := range y.miss {
-			if x.c[i>>6]&(1<<(i&63)) == 0 {
-				n++ // missing in both: not subtracted twice
-				continue
-			}
-			v := x.geno(i)
-			sx -= v
-			sxx -= v * v
-		}
-		for _, i := range x.miss {
-			if y.c[i>>6]&(1<<(i&63)) == 0 {
-				continue
-			}
-			v := y.geno(i)
-			sy -= v
-			syy -= v * v
-		}
+		m = correctedMoments(x, y)
 	}
-	cov := n*sxy - sx*sy
-	vx := n*sxx - sx*sx
-	vy := n*syy - sy*sy
+	cov := m.n*m.sxy - m.sx*m.sy
+	vx := m.n*m.sxx - m.sx*m.sx
+	vy := m.n*m.syy - m.sy*m.sy
 	if vx <= 0 || vy <= 0 {
 		return 0
 	}
 	c := float64(cov)
 	return c * c / (float64(vx) * float64(vy))
+}
+
+// pairMoments are the integer sums r^2 needs over the samples called at
+// both markers: their number, the sums of g_x, g_x^2, g_y, g_y^2 and of
+// g_x g_y.
+type pairMoments struct{ n, sx, sxx, sy, syy, sxy int64 }
+
+// countedMoments counts the moments from the bit planes (pairSums).
+func countedMoments(x, y *ldRow) pairMoments {
+	s := pairSums(x, y)
+	return pairMoments{n: s[3], sx: s[4] + s[5], sxx: s[4] + 3*s[5], sy: s[6] + s[7], syy: s[6] + 3*s[7],
+		sxy: s[0] + s[1] + 3*s[2]}
+}
+
+// correctedMoments counts only the cross sum from the planes and takes the
+// rest from each marker's own sums, corrected at the other marker's
+// missing samples (both rows need their missing lists, missOK).
+func correctedMoments(x, y *ldRow) pairMoments {
+	var a, bc, d int
+	for k := range x.b1 {
+		x1, x2, y1, y2 := x.b1[k], x.b2[k], y.b1[k], y.b2[k]
+		a += bits.OnesCount64(x1 & y1)
+		bc += bits.OnesCount64(x1&y2 ^ x2&y1)
+		d += bits.OnesCount64(x2 & y2)
+	}
+	m := pairMoments{n: x.n - int64(len(y.miss)), sx: x.sx, sxx: x.sxx, sy: y.sx, syy: y.sxx, sxy: int64(a + bc + 3*d)}
+	for _, i := range y.miss {
+		if x.c[i>>6]&(1<<(i&63)) == 0 {
+			m.n++ // missing in both: not subtracted twice
+			continue
+		}
+		v := x.geno(i)
+		m.sx -= v
+		m.sxx -= v * v
+	}
+	for _, i := range x.miss {
+		if y.c[i>>6]&(1<<(i&63)) == 0 {
+			continue
+		}
+		v := y.geno(i)
+		m.sy -= v
+		m.syy -= v * v
+	}
+	return m
 }
 
 // pairSumsFrom adds to s, from word k on, the population counts of a pair

@@ -4,8 +4,8 @@ package qc
 
 import "golang.org/x/sys/cpu"
 
-// useVPOPCNT selects pairSumsAVX512, which counts eight words of every
-// plane per step with AVX-512 VPOPCNTQ (Ice Lake, Sapphire Rapids, Zen 4
+// useVPOPCNT selects pairSums8, which counts eight words of every plane
+// per step with AVX-512 VPOPCNTQ (Ice Lake, Sapphire Rapids, Zen 4
 // and later).
 var useVPOPCNT = cpu.X86.HasAVX512F && cpu.X86.HasAVX512VPOPCNTDQ
 
@@ -16,8 +16,8 @@ var useVPOPCNT = cpu.X86.HasAVX512F && cpu.X86.HasAVX512VPOPCNTDQ
 //go:noescape
 func pairSums8(s *[8]int64, cx, x1, x2, cy, y1, y2 *uint64, n int)
 
-// pairSums returns the population counts a pair of rows needs (pairSums
-// in popcnt_generic.go), eight words at a time where the CPU can.
+// pairSums returns the population counts a pair of rows needs
+// (pairSumsFrom in ldrow.go), eight words at a time where the CPU can.
 func pairSums(x, y *ldRow) (s [8]int64) {
 	k := 0
 	if useVPOPCNT && len(x.c) >= 8 {

@@ -9,8 +9,9 @@ import (
 // bit by bit (the definitions in pairSumsFrom; no outside source), with
 // the AVX-512 kernel where the machine has it and without, on rows of 1
 // to 40 words (whole steps of eight words and tails), missing-heavy and
-// sparse; and that genoR2 gives the same bits on every path (its sums are
-// exact integers).
+// sparse; that the moments counted from the planes equal those corrected
+// from the missing lists; and that genoR2 gives the same bits on every
+// path (its sums are exact integers).
 func TestPairSums(t *testing.T) {
 	r := rand.New(rand.NewPCG(8, 8))
 	row := func(words int, pMiss float64) *ldRow {
@@ -81,6 +82,13 @@ func TestPairSums(t *testing.T) {
 		for _, v := range r2[1:] {
 			if v != r2[0] {
 				t.Fatalf("trial %d: genoR2 differs between paths: %v", trial, r2)
+			}
+		}
+		// The moments counted from the planes and those corrected from
+		// the missing lists are the same integers, on any machine.
+		if x.missOK && y.missOK {
+			if c, m := countedMoments(x, y), correctedMoments(x, y); c != m {
+				t.Fatalf("trial %d (%d words): counted moments %+v, corrected %+v", trial, words, c, m)
 			}
 		}
 	}

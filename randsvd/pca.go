@@ -142,7 +142,9 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + 2*blockM*lp*4
 	// The second product's rows for marker parts past the first (small
 	// cohorts only, secondParts).
-	p.KernelBytes += int64(secondParts(n)-1) * int64(n) * lp * 8
+	if st.Codec() == matrixio.CodecGeno2 {
+		p.KernelBytes += int64(secondParts(n)-1) * int64(n) * lp * 8
+	}
 	// The loadings stash's two row buffers and its encoding buffer during
 	// the refinement pass (stash.go).
 	p.KernelBytes += 3 * blockM * lp * 8
