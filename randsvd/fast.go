@@ -180,7 +180,7 @@ func transposeTile(tb, raw []byte, offs []int32, nb, g, nt, stride, pa, pb int) 
 		}
 		r0, r1, r2, r3 := rows[0][:np], rows[1][:np], rows[2][:np], rows[3][:np]
 		out := tb[u*stride : u*stride+32*((np+7)/8)]
-		for k := 0; k < nfull; k++ {
+		for k := transposeRuns(out, r0, r1, r2, r3, nfull); k < nfull; k++ {
 			transpose32(out[32*k:32*k+32],
 				binary.LittleEndian.Uint64(r0[8*k:8*k+8]), binary.LittleEndian.Uint64(r1[8*k:8*k+8]),
 				binary.LittleEndian.Uint64(r2[8*k:8*k+8]), binary.LittleEndian.Uint64(r3[8*k:8*k+8]))

@@ -324,3 +324,22 @@ func fmaRows(dst, rows, w []float64, count, wstride, lp int) {
 		fmaRowsKernels[nv](&dst[c0], &rows[c0], &w[0], count, wstride, lp)
 	}
 }
+
+//go:noescape
+func transposeRunsAVX2(out, r0, r1, r2, r3 *byte, n int)
+
+// transposeRuns transposes the leading runs of 32 samples of four rows
+// (transpose32 on each) four runs at a time with AVX2, and returns how
+// many runs it did: a multiple of four, at most runs. The rows hold at
+// least 8 runs bytes each and out at least 32 runs.
+func transposeRuns(out, r0, r1, r2, r3 []byte, runs int) int {
+	n := runs / 4
+	if !useAVX2 || n == 0 {
+		return 0
+	}
+	if len(out) < 128*n || min(len(r0), len(r1), len(r2), len(r3)) < 32*n {
+		panic("randsvd: transposeRuns shape out of range")
+	}
+	transposeRunsAVX2(&out[0], &r0[0], &r1[0], &r2[0], &r3[0], n)
+	return 4 * n
+}

@@ -73,3 +73,97 @@ bnext:
 bdone:
 	VZEROUPPER
 	RET
+
+// The masks of transpose32 (fast.go), broadcast by transposeRunsAVX2.
+DATA tm33<>+0(SB)/8, $0x3333333333333333
+GLOBL tm33<>(SB), RODATA|NOPTR, $8
+DATA tmcc<>+0(SB)/8, $0xcccccccccccccccc
+GLOBL tmcc<>(SB), RODATA|NOPTR, $8
+DATA tm0f<>+0(SB)/8, $0x0f0f0f0f0f0f0f0f
+GLOBL tm0f<>(SB), RODATA|NOPTR, $8
+DATA tmf0<>+0(SB)/8, $0xf0f0f0f0f0f0f0f0
+GLOBL tmf0<>(SB), RODATA|NOPTR, $8
+
+// func transposeRunsAVX2(out, r0, r1, r2, r3 *byte, n int)
+// transpose32 on four runs of 32 samples at a time (32 bytes of each of
+// the four rows), n such steps (n >= 1): the same shifts and masks on four
+// 64-bit words per vector, then a 4 x 4 transpose of 64-bit words puts
+// each run's four output words together (128 bytes out per step).
+TEXT ·transposeRunsAVX2(SB), NOSPLIT, $0-48
+	MOVQ out+0(FP), DI
+	MOVQ r0+8(FP), R8
+	MOVQ r1+16(FP), R9
+	MOVQ r2+24(FP), R10
+	MOVQ r3+32(FP), R11
+	MOVQ n+40(FP), CX
+	VPBROADCASTQ tm33<>(SB), Y15
+	VPBROADCASTQ tmcc<>(SB), Y14
+	VPBROADCASTQ tm0f<>(SB), Y13
+	VPBROADCASTQ tmf0<>(SB), Y12
+
+trloop:
+	VMOVDQU (R8), Y0
+	VMOVDQU (R9), Y1
+	VMOVDQU (R10), Y2
+	VMOVDQU (R11), Y3
+	// p01 = w0&m33 | (w1&m33)<<2
+	VPAND Y0, Y15, Y4
+	VPAND Y1, Y15, Y5
+	VPSLLQ $2, Y5, Y5
+	VPOR Y4, Y5, Y4
+	// q01 = (w0>>2)&m33 | w1&mcc
+	VPSRLQ $2, Y0, Y5
+	VPAND Y5, Y15, Y5
+	VPAND Y1, Y14, Y6
+	VPOR Y5, Y6, Y5
+	// p23, q23 likewise from w2, w3
+	VPAND Y2, Y15, Y6
+	VPAND Y3, Y15, Y7
+	VPSLLQ $2, Y7, Y7
+	VPOR Y6, Y7, Y6
+	VPSRLQ $2, Y2, Y7
+	VPAND Y7, Y15, Y7
+	VPAND Y3, Y14, Y8
+	VPOR Y7, Y8, Y7
+	// o0 = p01&m0f | (p23&m0f)<<4
+	VPAND Y4, Y13, Y8
+	VPAND Y6, Y13, Y9
+	VPSLLQ $4, Y9, Y9
+	VPOR Y8, Y9, Y8
+	// o1 = q01&m0f | (q23&m0f)<<4
+	VPAND Y5, Y13, Y9
+	VPAND Y7, Y13, Y10
+	VPSLLQ $4, Y10, Y10
+	VPOR Y9, Y10, Y9
+	// o2 = (p01>>4)&m0f | p23&mf0
+	VPSRLQ $4, Y4, Y10
+	VPAND Y10, Y13, Y10
+	VPAND Y6, Y12, Y11
+	VPOR Y10, Y11, Y10
+	// o3 = (q01>>4)&m0f | q23&mf0
+	VPSRLQ $4, Y5, Y11
+	VPAND Y11, Y13, Y11
+	VPAND Y7, Y12, Y4
+	VPOR Y11, Y4, Y11
+	// Y8..Y11 hold o0..o3 of runs 0-3; regroup by run.
+	VPUNPCKLQDQ Y9, Y8, Y0
+	VPUNPCKHQDQ Y9, Y8, Y1
+	VPUNPCKLQDQ Y11, Y10, Y2
+	VPUNPCKHQDQ Y11, Y10, Y3
+	VPERM2I128 $0x20, Y2, Y0, Y4
+	VPERM2I128 $0x20, Y3, Y1, Y5
+	VPERM2I128 $0x31, Y2, Y0, Y6
+	VPERM2I128 $0x31, Y3, Y1, Y7
+	VMOVDQU Y4, 0(DI)
+	VMOVDQU Y5, 32(DI)
+	VMOVDQU Y6, 64(DI)
+	VMOVDQU Y7, 96(DI)
+	ADDQ $32, R8
+	ADDQ $32, R9
+	ADDQ $32, R10
+	ADDQ $32, R11
+	ADDQ $128, DI
+	DECQ CX
+	JNZ trloop
+	VZEROUPPER
+	RET

@@ -27,3 +27,6 @@ func fmaRows(dst, rows, w []float64, count, wstride, lp int) {
 
 // useAVX512 is false off amd64 (a variable, as there: tests set it).
 var useAVX512 = false
+
+// transposeRuns does no runs off amd64: transposeTile does them all.
+func transposeRuns(out, r0, r1, r2, r3 []byte, runs int) int { return 0 }
