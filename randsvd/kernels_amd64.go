@@ -343,3 +343,17 @@ func transposeRuns(out, r0, r1, r2, r3 []byte, runs int) int {
 	transposeRunsAVX2(&out[0], &r0[0], &r1[0], &r2[0], &r3[0], n)
 	return 4 * n
 }
+
+// Kernels names the kernels this process's passes run on: "avx512" (ZMM
+// gathers, AVX2 elsewhere), "avx2", or "portable" (pure Go). They give
+// bit-identical results; the name says which speed to expect, and goes
+// into the report.
+func Kernels() string {
+	switch {
+	case useAVX512:
+		return "avx512"
+	case useAVX2:
+		return "avx2"
+	}
+	return "portable"
+}

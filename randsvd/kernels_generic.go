@@ -30,3 +30,7 @@ var useAVX512 = false
 
 // transposeRuns does no runs off amd64: transposeTile does them all.
 func transposeRuns(out, r0, r1, r2, r3 []byte, runs int) int { return 0 }
+
+// Kernels names the kernels this process's passes run on: "portable" (pure
+// Go) off amd64 or with the purego tag.
+func Kernels() string { return "portable" }

@@ -569,6 +569,7 @@ type pcaReportJSON struct {
 	BlockSize     int                `json:"block_size"`
 	Seed          uint64             `json:"seed"`
 	Threads       int                `json:"threads"`
+	Kernels       string             `json:"kernels"`
 	Tol           float64            `json:"tol"`
 	MaxPasses     int                `json:"max_passes"`
 	Scaling       string             `json:"scaling"`
@@ -669,7 +670,7 @@ func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel 
 		Input: reportInput{Path: st.Path(), Bytes: st.Size(), Fingerprint: st.Fingerprint(),
 			Samples: st.NumSamples(), Markers: st.NumMarkers(), Codec: string(st.Codec())},
 		SamplesUsed: len(res.Samples), MarkersUsed: res.Markers, K: o.k, BlockSize: res.BlockSize,
-		Seed: o.seed, Threads: o.threads, Tol: o.tol, MaxPasses: o.maxPasses, Scaling: o.scaling,
+		Seed: o.seed, Threads: o.threads, Kernels: randsvd.Kernels(), Tol: o.tol, MaxPasses: o.maxPasses, Scaling: o.scaling,
 		Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, Trace: res.Trace, TraceSqEst: res.TraceSqEst,
 		MPEdge: res.MPEdge, Eigenvalues: res.Eigenvalues, Residuals: res.Residuals, Converged: res.Converged,
 		ResidualTrace: res.History, Memory: res.Plan, WallSeconds: wall.Seconds(), CPUSeconds: cpuSeconds(),

@@ -14,6 +14,7 @@ import (
 	"testing"
 
 	"github.com/clinal/clinal/matrixio"
+	"github.com/clinal/clinal/randsvd"
 )
 
 // writeTestStore writes a small two-population store (frequencies differ
@@ -122,10 +123,13 @@ func TestPCACommandOutputs(t *testing.T) {
 		if err := json.Unmarshal([]byte(readMaybeGz(t, prefix+".report.json")), &rep); err != nil {
 			t.Fatal(err)
 		}
-		for _, key := range []string{"samples_used", "markers_used", "k", "passes", "trace", "eigenvalues", "residuals", "seed", "threads", "wall_seconds", "peak_rss_bytes", "version", "qc"} {
+		for _, key := range []string{"samples_used", "markers_used", "k", "passes", "trace", "eigenvalues", "residuals", "seed", "threads", "kernels", "wall_seconds", "peak_rss_bytes", "version", "qc"} {
 			if _, ok := rep[key]; !ok {
 				t.Errorf("report.json lacks %q", key)
 			}
+		}
+		if k := rep["kernels"]; k != randsvd.Kernels() || (k != "avx512" && k != "avx2" && k != "portable") {
+			t.Errorf("report.json kernels %v, this process runs %q", k, randsvd.Kernels())
 		}
 		if first == nil {
 			first = files
