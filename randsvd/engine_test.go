@@ -19,6 +19,13 @@ import (
 // reference.
 func testCohort(t testing.TB, n, m, pops int, fst, miss float64, seed uint64, chunk int) (*matrixio.Store, [][]byte) {
 	t.Helper()
+	return testCohortFreq(t, n, m, pops, fst, miss, seed, chunk, func(r *rand.Rand) float64 { return 0.05 + 0.9*r.Float64() })
+}
+
+// testCohortFreq is testCohort with the ancestral allele frequency of each
+// marker drawn by freq.
+func testCohortFreq(t testing.TB, n, m, pops int, fst, miss float64, seed uint64, chunk int, freq func(*rand.Rand) float64) (*matrixio.Store, [][]byte) {
+	t.Helper()
 	r := rand.New(rand.NewPCG(seed, 7))
 	samples := make([]string, n)
 	for i := range samples {
@@ -31,7 +38,7 @@ func testCohort(t testing.TB, n, m, pops int, fst, miss float64, seed uint64, ch
 	}
 	geno := make([][]byte, m)
 	for j := 0; j < m; j++ {
-		p := 0.05 + 0.9*r.Float64()
+		p := freq(r)
 		g := make([]byte, n)
 		fr := make([]float64, pops)
 		for k := range fr {
