@@ -2,6 +2,13 @@
 
 #include "textflag.h"
 
+// COUNT adds to the lanes of acc the population counts of a&b (clobbers
+// Z6).
+#define COUNT(a, b, acc) \
+	VPANDQ a, b, Z6 \
+	VPOPCNTQ Z6, Z6 \
+	VPADDQ Z6, acc, acc
+
 // HSUM adds the sum of the eight int64 lanes of z to off(DI) (clobbers
 // Z0, Z1 and AX).
 #define HSUM(z, off) \
@@ -43,32 +50,18 @@ loop:
 	VMOVDQU64 (R11), Z3 // cy
 	VMOVDQU64 (R12), Z4 // y1
 	VMOVDQU64 (R13), Z5 // y2
-	VPANDQ Z1, Z4, Z6   // a
+	COUNT(Z1, Z4, Z8)   // a = x1&y1
+	VPANDQ Z1, Z5, Z6   // b = x1&y2
+	VPANDQ Z2, Z4, Z7   // c = x2&y1
+	VPXORQ Z6, Z7, Z6
 	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z8, Z8
-	VPANDQ Z1, Z5, Z6   // b
-	VPANDQ Z2, Z4, Z7   // c
-	VPXORQ Z6, Z7, Z6   // b^c
-	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z9, Z9
-	VPANDQ Z2, Z5, Z6   // d
-	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z10, Z10
-	VPANDQ Z0, Z3, Z6   // cx&cy
-	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z11, Z11
-	VPANDQ Z1, Z3, Z6   // x1&cy
-	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z12, Z12
-	VPANDQ Z2, Z3, Z6   // x2&cy
-	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z13, Z13
-	VPANDQ Z4, Z0, Z6   // y1&cx
-	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z14, Z14
-	VPANDQ Z5, Z0, Z6   // y2&cx
-	VPOPCNTQ Z6, Z6
-	VPADDQ Z6, Z15, Z15
+	VPADDQ Z6, Z9, Z9   // b^c
+	COUNT(Z2, Z5, Z10)  // d = x2&y2
+	COUNT(Z0, Z3, Z11)  // cx&cy
+	COUNT(Z1, Z3, Z12)  // x1&cy
+	COUNT(Z2, Z3, Z13)  // x2&cy
+	COUNT(Z4, Z0, Z14)  // y1&cx
+	COUNT(Z5, Z0, Z15)  // y2&cx
 	ADDQ $64, R8
 	ADDQ $64, R9
 	ADDQ $64, R10

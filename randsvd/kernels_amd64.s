@@ -84,6 +84,32 @@ GLOBL tm0f<>(SB), RODATA|NOPTR, $8
 DATA tmf0<>+0(SB)/8, $0xf0f0f0f0f0f0f0f0
 GLOBL tmf0<>(SB), RODATA|NOPTR, $8
 
+// PAIRS interleaves the codes of two markers' words wa and wb into p
+// (codes 0 and 2 of each byte) and q (codes 1 and 3); t is scratch.
+#define PAIRS(wa, wb, p, q, t) \
+	VPAND wa, Y15, p \
+	VPAND wb, Y15, t \
+	VPSLLQ $2, t, t \
+	VPOR p, t, p \
+	VPSRLQ $2, wa, q \
+	VPAND q, Y15, q \
+	VPAND wb, Y14, t \
+	VPOR q, t, q
+
+// LOWNIBBLES sets o = lo&m0f | (hi&m0f)<<4; t is scratch.
+#define LOWNIBBLES(lo, hi, o, t) \
+	VPAND lo, Y13, o \
+	VPAND hi, Y13, t \
+	VPSLLQ $4, t, t \
+	VPOR o, t, o
+
+// HIGHNIBBLES sets o = (lo>>4)&m0f | hi&mf0; t is scratch.
+#define HIGHNIBBLES(lo, hi, o, t) \
+	VPSRLQ $4, lo, o \
+	VPAND o, Y13, o \
+	VPAND hi, Y12, t \
+	VPOR o, t, o
+
 // func transposeRunsAVX2(out, r0, r1, r2, r3 *byte, n int)
 // transpose32 on four runs of 32 samples at a time (32 bytes of each of
 // the four rows), n such steps (n >= 1): the same shifts and masks on four
@@ -106,45 +132,16 @@ trloop:
 	VMOVDQU (R9), Y1
 	VMOVDQU (R10), Y2
 	VMOVDQU (R11), Y3
-	// p01 = w0&m33 | (w1&m33)<<2
-	VPAND Y0, Y15, Y4
-	VPAND Y1, Y15, Y5
-	VPSLLQ $2, Y5, Y5
-	VPOR Y4, Y5, Y4
-	// q01 = (w0>>2)&m33 | w1&mcc
-	VPSRLQ $2, Y0, Y5
-	VPAND Y5, Y15, Y5
-	VPAND Y1, Y14, Y6
-	VPOR Y5, Y6, Y5
-	// p23, q23 likewise from w2, w3
-	VPAND Y2, Y15, Y6
-	VPAND Y3, Y15, Y7
-	VPSLLQ $2, Y7, Y7
-	VPOR Y6, Y7, Y6
-	VPSRLQ $2, Y2, Y7
-	VPAND Y7, Y15, Y7
-	VPAND Y3, Y14, Y8
-	VPOR Y7, Y8, Y7
-	// o0 = p01&m0f | (p23&m0f)<<4
-	VPAND Y4, Y13, Y8
-	VPAND Y6, Y13, Y9
-	VPSLLQ $4, Y9, Y9
-	VPOR Y8, Y9, Y8
-	// o1 = q01&m0f | (q23&m0f)<<4
-	VPAND Y5, Y13, Y9
-	VPAND Y7, Y13, Y10
-	VPSLLQ $4, Y10, Y10
-	VPOR Y9, Y10, Y9
-	// o2 = (p01>>4)&m0f | p23&mf0
-	VPSRLQ $4, Y4, Y10
-	VPAND Y10, Y13, Y10
-	VPAND Y6, Y12, Y11
-	VPOR Y10, Y11, Y10
-	// o3 = (q01>>4)&m0f | q23&mf0
-	VPSRLQ $4, Y5, Y11
-	VPAND Y11, Y13, Y11
-	VPAND Y7, Y12, Y4
-	VPOR Y11, Y4, Y11
+	// p01 = w0&m33 | (w1&m33)<<2, q01 = (w0>>2)&m33 | w1&mcc; p23, q23
+	// likewise from w2, w3.
+	PAIRS(Y0, Y1, Y4, Y5, Y6)
+	PAIRS(Y2, Y3, Y6, Y7, Y8)
+	// o0 = p01&m0f | (p23&m0f)<<4, o1 the same of q01 and q23.
+	LOWNIBBLES(Y4, Y6, Y8, Y9)
+	LOWNIBBLES(Y5, Y7, Y9, Y10)
+	// o2 = (p01>>4)&m0f | p23&mf0, o3 the same of q01 and q23.
+	HIGHNIBBLES(Y4, Y6, Y10, Y11)
+	HIGHNIBBLES(Y5, Y7, Y11, Y4)
 	// Y8..Y11 hold o0..o3 of runs 0-3; regroup by run.
 	VPUNPCKLQDQ Y9, Y8, Y0
 	VPUNPCKHQDQ Y9, Y8, Y1
