@@ -11,7 +11,7 @@ var useVPOPCNT = cpu.X86.HasAVX512F && cpu.X86.HasAVX512VPOPCNTDQ
 
 // pairSums8 adds to s the population counts of pairSums over the first
 // 8*n words of the planes (n >= 1): s[0] a, s[1] b^c, s[2] d, s[3] cx&cy,
-// s[4] x1&cy, s[5] x2&cy, s[6] y1&cx, s[7] y2&cx (see pairSums).
+// s[4] x1&cy, s[5] x2&cy, s[6] y1&cx, s[7] y2&cx (see pairSumsFrom).
 //
 //go:noescape
 func pairSums8(s *[8]int64, cx, x1, x2, cy, y1, y2 *uint64, n int)

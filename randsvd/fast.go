@@ -101,17 +101,17 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 
 // secondTiles runs the second product for samples [a, b) (a a multiple
 // of 16) and the block's marker groups [g0, g1) (whole tiles), adding to
-// the rows of dst, as a gather, the first product's kernel on the
-// transposed block: for each tile of groups of four block markers, the
-// group tables of the
-// rows wpp = W_j / sd_j (256 rows per group, like the first product's
-// tables of X; missing calls take the rows mwpp, see buildTable) are
-// built, the tile's codes are transposed to one byte per sample and group
-// (transposeTile), and every sample adds the table rows of its bytes to
-// its row of ws.y. A gather reads table rows and writes each sample's row
-// once per tile; the scatter it replaced (bucket rows updated in place per
-// marker byte, then each sample's marginals over the buckets) stalled on
-// repeated updates of the same bucket, which rare variants make common.
+// the rows of dst, as a gather: the first product's kernel on the
+// transposed block. For each tile of groups of four block markers, the
+// group tables of the rows wpp = W_j / sd_j are built (256 rows per group,
+// like the first product's tables of X; missing calls take the rows mwpp,
+// see buildTable), the tile's codes are transposed to one byte per sample
+// and group (transposeTile), and every sample adds the table rows of its
+// bytes to its row of dst. A gather reads table rows and writes each
+// sample's row once per tile; the scatter it replaced (bucket rows updated
+// in place per marker byte, then each sample's marginals over the buckets)
+// stalled on repeated updates of the same bucket, which rare variants make
+// common.
 func (op *Operator) secondTiles(ws *workspace, dst []float64, raw []byte, offs []int32, a, b, g0, g1, t int) {
 	lp, nb := ws.lp, len(ws.sels)
 	pa, pb := a/4, (b+3)/4

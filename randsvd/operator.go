@@ -432,36 +432,7 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		}
 	}
 	if second && ws.tbuf == nil && !op.float {
-		// Second-product units (secondJob): marker parts (secondParts) times
-		// sample jobs, the segments split into runs so that there are about
-		// as many units as threads; each transposed secondRange samples at
-		// a time at most, tiles as wide as the widest of either precision.
-		nseg := len(op.segs) - 1
-		ws.parts2 = secondParts(op.n)
-		nj := min(nseg, max(1, (op.threads+ws.parts2-1)/ws.parts2))
-		ws.ypart = make([][]float64, ws.parts2-1)
-		for p := range ws.ypart {
-			ws.ypart[p] = make([]float64, op.n*lp)
-		}
-		ws.jobs2 = make([]int, nj+1)
-		for j := range ws.jobs2 {
-			ws.jobs2[j] = j * nseg / nj
-		}
-		most := 0
-		for j := 0; j < nj; j++ {
-			most = max(most, op.segs[ws.jobs2[j+1]]-op.segs[ws.jobs2[j]])
-		}
-		rows := (min(most, secondRange) + 31) &^ 31
-		ng := max(tileGroups(lp), tileGroups32(lp))
-		ws.tbuf = make([][]byte, op.threads)
-		for t := range ws.tbuf {
-			ws.tbuf[t] = make([]byte, ng*rows)
-		}
-		ws.tstride = rows
-		ws.toffs = make([]int32, rows)
-		for q := range ws.toffs {
-			ws.toffs[q] = transposedOffset(q)
-		}
+		op.secondBuffers(ws)
 	}
 	if !fast && ws.tabs == nil {
 		ws.tabs = make([][]float64, op.threads)
@@ -488,6 +459,41 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		}
 	}
 	return ws
+}
+
+// secondBuffers sets up the second product of a 2-bit store's passes:
+// its units (secondJob), marker parts (secondParts) times sample jobs,
+// the segments split into runs so that there are about as many units as
+// threads; each thread's transposed tile, secondRange samples at a time
+// at most, as wide as the widest tile of either precision.
+func (op *Operator) secondBuffers(ws *workspace) {
+	lp := ws.lp
+	nseg := len(op.segs) - 1
+	ws.parts2 = secondParts(op.n)
+	nj := min(nseg, max(1, (op.threads+ws.parts2-1)/ws.parts2))
+	ws.ypart = make([][]float64, ws.parts2-1)
+	for p := range ws.ypart {
+		ws.ypart[p] = make([]float64, op.n*lp)
+	}
+	ws.jobs2 = make([]int, nj+1)
+	for j := range ws.jobs2 {
+		ws.jobs2[j] = j * nseg / nj
+	}
+	most := 0
+	for j := 0; j < nj; j++ {
+		most = max(most, op.segs[ws.jobs2[j+1]]-op.segs[ws.jobs2[j]])
+	}
+	rows := (min(most, secondRange) + 31) &^ 31
+	ng := max(tileGroups(lp), tileGroups32(lp))
+	ws.tbuf = make([][]byte, op.threads)
+	for t := range ws.tbuf {
+		ws.tbuf[t] = make([]byte, ng*rows)
+	}
+	ws.tstride = rows
+	ws.toffs = make([]int32, rows)
+	for q := range ws.toffs {
+		ws.toffs[q] = transposedOffset(q)
+	}
 }
 
 // Apply computes Y = K X for X with Dim() rows and l columns (row-major,
