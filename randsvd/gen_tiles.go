@@ -152,6 +152,7 @@ func gather64(p func(string, ...any), vs []vec32, name, lbl string) {
 	p("\tCMPQ CX, $2")
 	p("\tJLT %ssingle", lbl)
 	p("%spair:", lbl)
+	prefetchRows(p, lbl)
 	p("\tMOVLQSX (R9), AX")
 	p("\tLEAQ (R8)(AX*1), BX")
 	p("\tMOVLQSX 4(R9), AX")
@@ -331,6 +332,7 @@ func gen32(p func(string, ...any), nz, nv, tail int) {
 	p("\tCMPQ CX, $2")
 	p("\tJLT %ssingle", lbl)
 	p("%spair:", lbl)
+	prefetchRows(p, lbl)
 	p("\tMOVLQSX (R9), AX")
 	p("\tLEAQ (R8)(AX*1), BX")
 	p("\tMOVLQSX 4(R9), AX")
@@ -391,6 +393,28 @@ func gen32(p func(string, ...any), nz, nv, tail int) {
 	p("%sdone:", lbl)
 	p("\tVZEROUPPER")
 	p("\tRET")
+}
+
+// pfDist is how many rows ahead the gathers prefetch.
+const pfDist = 8
+
+// prefetchRows writes, at the top of a gather's pair loop (R9 at the
+// pair's offsets, R8 the packed bytes, CX the rows left), prefetches of
+// the first bytes of the two rows pfDist rows ahead, when there are that
+// many. The first product's rows lie a whole packed row apart in the
+// block (1,250 bytes at 5,000 samples), and its pair loop reads only a
+// tile's 16 bytes of each, so the hardware prefetchers do not follow;
+// the table lookups wait on those bytes. Measured: fast passes about 6%
+// faster (BenchmarkPass, benchmarks/kernels). A prefetch never faults,
+// and the offsets read lie inside the slice (CX > pfDist+1).
+func prefetchRows(p func(string, ...any), lbl string) {
+	p("\tCMPQ CX, $%d", pfDist+2)
+	p("\tJLT %snopf", lbl)
+	p("\tMOVLQSX %d(R9), AX", 4*pfDist)
+	p("\tPREFETCHT0 (R8)(AX*1)")
+	p("\tMOVLQSX %d(R9), AX", 4*pfDist+4)
+	p("\tPREFETCHT0 (R8)(AX*1)")
+	p("%snopf:", lbl)
 }
 
 // widen adds the float32 accumulators of vs, in registers first.., widened
