@@ -107,7 +107,7 @@ const solverBlocks = 8
 const runtimeOverhead = 48 << 20
 
 // PlanMemory chooses the number of chunk buffers so the run fits limit
-// bytes (0: no limit, Threads+1 buffers) and refuses with the minimum it
+// bytes (0: no limit, streamBuffers) and refuses with the minimum it
 // needs when even the N x l blocks and two buffers do not fit.
 func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (MemoryPlan, error) {
 	n := st.NumSamples()
@@ -153,7 +153,7 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	}
 	fixed := p.SolverBytes + p.TableBytes + p.KernelBytes + runtimeOverhead
 	p.MinimumBytes = fixed + 2*p.ChunkBytes
-	p.Buffers = max(2, threads+1)
+	p.Buffers = streamBuffers(threads, int(target), st.ChunkMarkers(), p.ChunkBytes)
 	if limit > 0 {
 		if p.MinimumBytes > limit {
 			return p, matrixio.BadInput("--memory %s is too small: %d samples x block of %d vectors and two chunk buffers need at least %s",
