@@ -4,19 +4,20 @@ exact and fast) against numpy's two float32 products on the same
 standardized matrix held in memory (Debian python3-numpy with OpenBLAS),
 in one run on one machine, with the floors under each:
 
-- clinal: `passbench` (this folder) times a pass with 1 and 2 threads, and a
-  stream-only pass that reads and decompresses every chunk and computes
+- clinal: `passbench` (this folder) times a pass with 1 and 2 threads, with
+  1 thread pinned to one core (taskset, GOMAXPROCS=1: decoding shares that
+  core), and a stream-only pass that reads and decompresses every chunk and computes
   nothing: no pass from this store can be faster;
 - numpy: W = Z X and Y = Z^T W in float32 (Z markers x samples, X samples x
   l), and the memory floor: two reads of Z at the bandwidth numpy's own
   float32 sum over Z reaches here.
 
-Also reports allocations per pass (steady state) and the 1-to-2-thread
-speed-ups. A pass is 4*N*M*l flops of dense arithmetic (design.md).
+Also reports allocations per pass (steady state) and the speed-ups from 1
+to 2 threads and from 1 to 2 cores. A pass is 4*N*M*l flops of dense arithmetic (design.md).
 
 usage: benchmarks/kernels/bench.py [--samples 5000] [--markers 50000] [--l 20] [--rounds 5]
 """
-import argparse, json, os, statistics, subprocess, sys
+import argparse, json, os, shutil, statistics, subprocess, sys
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
@@ -69,6 +70,9 @@ def main():
     # round is a side-by-side measurement; medians over rounds damp a
     # shared machine's noise.
     env = dict(os.environ, OPENBLAS_NUM_THREADS="2")
+    taskset = shutil.which("taskset")  # util-linux
+    if not taskset:
+        print("bench: taskset not found: no 1-core rows", file=sys.stderr)
     rounds = []
     for rnd in range(args.rounds):
         res = {}
@@ -76,6 +80,16 @@ def main():
             out = subprocess.check_output([os.path.join(args.out, "passbench"), "-l", str(args.l), "-threads", str(th),
                                            "-reps", str(args.reps), st])
             res[f"clinal_t{th}"] = json.loads(out)
+        # One core: the 1-thread pass pinned to core 0 with one Go
+        # scheduler thread (GOMAXPROCS=1), so decoding cannot run beside
+        # it on the other core. 1 core -> 2 cores is the pass's parallel
+        # speed-up; 1 -> 2 threads also counts the decoder's use of the
+        # second core by the 1-thread pass.
+        if taskset:
+            out = subprocess.check_output([taskset, "-c", "0", os.path.join(args.out, "passbench"), "-l", str(args.l),
+                                           "-threads", "1", "-reps", str(args.reps), st],
+                                          env=dict(os.environ, GOMAXPROCS="1"))
+            res["clinal_c1"] = json.loads(out)
         res["numpy"] = json.loads(subprocess.check_output(["/usr/bin/python3", "-c", NUMPY_CHILD, npy, str(args.l),
                                                            str(args.reps)], env=env))
         rounds.append(res)
@@ -92,6 +106,13 @@ def main():
         ("clinal exact pass, 2 threads", m("clinal_t2", "ExactSeconds")),
         ("clinal fast pass, 1 thread", m("clinal_t1", "FastSeconds")),
         ("clinal exact pass, 1 thread", m("clinal_t1", "ExactSeconds")),
+    ]
+    if taskset:
+        rows += [
+            ("clinal fast pass, 1 thread on 1 core", m("clinal_c1", "FastSeconds")),
+            ("clinal exact pass, 1 thread on 1 core", m("clinal_c1", "ExactSeconds")),
+        ]
+    rows += [
         ("clinal stream-only (read + zstd), 2 threads", m("clinal_t2", "StreamSeconds")),
         ("numpy float32 Z X and Z^T W (OpenBLAS, 2 threads)", m("numpy", "pass_seconds")),
         ("numpy memory floor (2 reads of Z)", m("numpy", "floor_seconds")),
@@ -112,6 +133,12 @@ def main():
     print(f"clinal fast pass / numpy pass, per round: {per}; median {med(fast):.2f}x; exact: median {med(exact):.2f}x")
     print(f"speed-up 1 -> 2 threads, median of rounds: fast {med([speed(r, 'FastSeconds') for r in rounds]):.2f}x, "
           f"exact {med([speed(r, 'ExactSeconds') for r in rounds]):.2f}x")
+    if taskset:
+        cores = lambda r, kind: r["clinal_c1"][kind] / r["clinal_t2"][kind]
+        per = ", ".join(f"{cores(r, 'FastSeconds'):.2f}" for r in rounds)
+        print(f"speed-up 1 -> 2 cores (1 thread pinned to one core vs 2 threads on two), per round: fast {per}; "
+              f"median fast {med([cores(r, 'FastSeconds') for r in rounds]):.2f}x, "
+              f"exact {med([cores(r, 'ExactSeconds') for r in rounds]):.2f}x")
     # Cores busy during the timed passes (CPU time / wall time): the zstd
     # decoder runs beside the compute threads, so the 1-thread pass already
     # keeps more than one core busy and bounds the 2-thread speed-up at
