@@ -1,6 +1,7 @@
 package matrixio
 
 import (
+	"fmt"
 	"math/rand/v2"
 	"path/filepath"
 	"testing"
@@ -17,9 +18,15 @@ func BenchmarkLoadingsWriter(b *testing.B) {
 		vals[i] = r.NormFloat64() * 0.01
 	}
 	dir := b.TempDir()
+	for _, threads := range []int{1, 2} {
+		b.Run(fmt.Sprintf("threads=%d", threads), func(b *testing.B) { benchLoadings(b, dir, vals, m, k, threads) })
+	}
+}
+
+func benchLoadings(b *testing.B, dir string, vals []float64, m, k, threads int) {
 	b.ReportAllocs()
 	for i := 0; i < b.N; i++ {
-		lw, err := CreateLoadings(filepath.Join(dir, "l.tsv.gz"), k)
+		lw, err := CreateLoadingsThreads(filepath.Join(dir, "l.tsv.gz"), k, threads)
 		if err != nil {
 			b.Fatal(err)
 		}

@@ -3,8 +3,11 @@ package matrixio
 import (
 	"bytes"
 	"compress/gzip"
+	"fmt"
+	"io"
 	"math"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -179,5 +182,67 @@ func TestReadPCAModelBadInput(t *testing.T) {
 				t.Errorf("error %v, want a bad-input error containing %q", err, c.want)
 			}
 		})
+	}
+}
+
+// TestLoadingsBGZF writes the same rows with one and with three compressing
+// goroutines. Expected: both files are BGZF (SAM/BAM specification
+// section 4.1: every member carries the "BC" extra field and the file ends
+// with the fixed empty EOF member), and Go's compress/gzip, an independent
+// multi-member reader, reads both back to the same text, byte for byte,
+// with more than one member (rows past one 64 KiB block). Where htslib's
+// htsfile is installed (Debian tabix/htslib), it must call them BGZF.
+func TestLoadingsBGZF(t *testing.T) {
+	dir := t.TempDir()
+	var texts [][]byte
+	for _, threads := range []int{1, 3} {
+		path := filepath.Join(dir, fmt.Sprintf("t%d.loadings.tsv.gz", threads))
+		lw, err := CreateLoadingsThreads(path, 2, threads)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for j := 0; j < 3000; j++ {
+			v := []float64{math.Sin(float64(j)), math.Cos(float64(j)) / 3}
+			if err := lw.Write(Marker{Chrom: "2", Pos: int64(100 + j), ID: fmt.Sprintf("m%d", j), Ref: "A", Alt: "T"}, 0.3, 0.7, v); err != nil {
+				t.Fatal(err)
+			}
+		}
+		if err := lw.Close(); err != nil {
+			t.Fatal(err)
+		}
+		raw, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(raw) < 40 || raw[3]&4 == 0 || bgzfSubfield(raw[12:12+int(raw[10])]) < 0 {
+			t.Fatalf("threads %d: first member is not BGZF", threads)
+		}
+		if !bytes.HasSuffix(raw, bgzfEOF) {
+			t.Fatalf("threads %d: no BGZF EOF member at the end", threads)
+		}
+		zr, err := gzip.NewReader(bytes.NewReader(raw))
+		if err != nil {
+			t.Fatal(err)
+		}
+		text, err := io.ReadAll(zr)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(text) <= bgzfBlockInput {
+			t.Fatalf("threads %d: %d bytes of text, want more than one block", threads, len(text))
+		}
+		texts = append(texts, text)
+		if htsfile, err := exec.LookPath("htsfile"); err == nil {
+			out, err := exec.Command(htsfile, path).CombinedOutput()
+			if err != nil || !strings.Contains(string(out), "BGZF") {
+				t.Errorf("htsfile %s: %s (%v)", path, out, err)
+			}
+		}
+	}
+	if !bytes.Equal(texts[0], texts[1]) {
+		t.Error("one and three goroutines wrote different text")
+	}
+	if !strings.HasPrefix(string(texts[0]), LoadingsHeaderStart+"\tPC1\tPC2\n2\t100\tm0\tA\tT\tT\t0.3\t0.7\t0\t0.3333333333333333\n") {
+		t.Errorf("text starts %q", texts[0][:120])
 	}
 }

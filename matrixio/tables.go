@@ -8,7 +8,7 @@ import (
 	"math"
 	"strconv"
 
-	"github.com/klauspost/compress/gzip"
+	"github.com/klauspost/compress/flate"
 )
 
 // FormatFloat renders a value with 17 significant digits at most (enough to
@@ -127,8 +127,8 @@ func WriteSpectrum(path string, rows []SpectrumRow) error {
 // one column per PC.
 type LoadingsWriter struct {
 	a   *AtomicFile
-	fw  *bufio.Writer // the compressed stream (flate emits pieces of ~250 bytes)
-	gz  *gzip.Writer
+	fw  *bufio.Writer // the compressed stream
+	gz  *bgzfWriter
 	num []byte        // a row's numbers, formatted (reused)
 	bw  *bufio.Writer // the text
 }
@@ -136,14 +136,24 @@ type LoadingsWriter struct {
 // LoadingsHeaderStart is the fixed start of the loadings header.
 const LoadingsHeaderStart = "chrom\tpos\tid\tref\talt\tallele\tfreq\tscale"
 
-// CreateLoadings starts a loadings file for k PCs.
+// CreateLoadings starts a loadings file for k PCs, compressed on one
+// goroutine (CreateLoadingsThreads).
 func CreateLoadings(path string, k int) (*LoadingsWriter, error) {
+	return CreateLoadingsThreads(path, k, 1)
+}
+
+// CreateLoadingsThreads starts a loadings file for k PCs whose blocks are
+// compressed on up to threads goroutines. The file is BGZF (see bgzf.go):
+// any gzip reader reads it, and blocks deflate in parallel, while the
+// caller formats the next rows (a plain gzip stream is one serial
+// deflate, which was most of the loadings' time).
+func CreateLoadingsThreads(path string, k, threads int) (*LoadingsWriter, error) {
 	a, err := CreateAtomic(path)
 	if err != nil {
 		return nil, err
 	}
 	fw := bufio.NewWriterSize(a, 1<<16)
-	gz, _ := gzip.NewWriterLevel(fw, gzip.BestSpeed)
+	gz := newBGZFWriter(fw, flate.BestSpeed, threads)
 	lw := &LoadingsWriter{a: a, fw: fw, gz: gz, bw: bufio.NewWriterSize(gz, 1<<16)}
 	lw.bw.WriteString(LoadingsHeaderStart)
 	for j := 0; j < k; j++ {

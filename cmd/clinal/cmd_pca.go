@@ -426,7 +426,7 @@ func writePCAOutputsWith(ctx context.Context, e *env, st *matrixio.Store, op *ra
 	}()
 	ph.start("loadings")
 	if !o.noLoadings {
-		if err := writeLoadings(ctx, o.out+".loadings.tsv.gz", st, op, res, sel); err != nil {
+		if err := writeLoadings(ctx, o.out+".loadings.tsv.gz", st, op, res, sel, o.threads); err != nil {
 			return nil, err
 		}
 		out.files = append(out.files, o.out+".loadings.tsv.gz")
@@ -497,8 +497,8 @@ func spectrumRows(res *randsvd.PCAResult) []matrixio.SpectrumRow {
 	return rows
 }
 
-func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *randsvd.Operator, res *randsvd.PCAResult, sel *qc.Selection) error {
-	lw, err := matrixio.CreateLoadings(path, len(res.Eigenvalues))
+func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *randsvd.Operator, res *randsvd.PCAResult, sel *qc.Selection, threads int) error {
+	lw, err := matrixio.CreateLoadingsThreads(path, len(res.Eigenvalues), threads)
 	if err != nil {
 		return err
 	}
