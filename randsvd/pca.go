@@ -227,6 +227,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 	}
 	res, err := Solve(ctx, op, SolveOptions{K: opt.K, Oversample: opt.Oversample, Tol: opt.Tol,
 		MaxPasses: opt.MaxPasses, Seed: opt.Seed, BulkEdge: edge, VarTol: opt.VarTol, Checkpoint: opt.Checkpoint, Resume: opt.Resume,
+		Threads: opt.Threads,
 		// A float store's fast pass is an exact one: no refinement needed.
 		Exact: opt.ExactPasses || op.float, stash: sh, Pass: func(p int, rel float64) {
 			pass = p

@@ -7,6 +7,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
+	"sync"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -63,6 +65,9 @@ type SolveOptions struct {
 	Resume *State
 	// Exact disables fast passes even when the operator has them.
 	Exact bool
+	// Threads is the most goroutines the Rayleigh-Ritz block products
+	// between passes use (default 1); the results do not depend on it.
+	Threads int
 	// stash, when set and the applier can capture (Operator), keeps Z U of
 	// each refinement pass's input for Loadings (stash.go).
 	stash *stash
@@ -148,6 +153,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	if opt.MaxPasses < 2 {
 		opt.MaxPasses = 2
 	}
+	th := max(1, opt.Threads)
 	fa, fast := a.(FastApplier)
 	fast = fast && !opt.Exact
 	apply := func(fast bool) func(context.Context, []float64, []float64, int) error {
@@ -183,7 +189,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		if err := orthonormalizeWith(q, aq, nil); err != nil {
 			return nil, fmt.Errorf("solve: start block: %w", err)
 		}
-		u, au, theta, _ := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l)
+		u, au, theta, _ := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l, th)
 		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l), PrevCaptured: math.NaN(),
 			Fast: fast}
 		if fast {
@@ -260,7 +266,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			}
 			in := u.RawMatrix().Data
 			var rot *mat.Dense
-			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{mat.NewDense(n, l, y)}, l)
+			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{mat.NewDense(n, l, y)}, l, th)
 			if capture {
 				opt.stash.pass = st.Pass + 1
 			}
@@ -311,7 +317,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			return nil, err
 		}
 		arm := mat.NewDense(n, l, ar)
-		u, au, theta, _ = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l)
+		u, au, theta, _ = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l, th)
 		st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
 			PrevCaptured: captured, Fast: st.Fast, FastPasses: st.FastPasses}
@@ -421,7 +427,10 @@ func maxOf(v []float64) float64 {
 // rayleighRitz takes an orthonormal basis split in blocks B = [B1 B2 ...]
 // with their images KB, forms H = B^T K B (symmetrized), and returns the
 // top l Ritz vectors U = B V, their images KU = KB V, Ritz values and V.
-func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64, v *mat.Dense) {
+// The block products B_i^T KB_j, and then U and KU, are computed on up to
+// threads goroutines: each is one gonum product, as in serial, so the
+// numbers do not depend on threads.
+func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta []float64, v *mat.Dense) {
 	n, _ := b[0].Dims()
 	widths := make([]int, len(b))
 	tot := 0
@@ -432,12 +441,19 @@ func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64,
 	}
 	h := mat.NewSymDense(tot, nil)
 	full := mat.NewDense(tot, tot, nil)
+	blks := make([]mat.Dense, len(b)*len(kb))
+	var prods []func()
+	for i := range b {
+		for j := range kb {
+			prods = append(prods, func() { blks[i*len(kb)+j].Mul(b[i].T(), kb[j]) })
+		}
+	}
+	parallel(threads, prods...)
 	ro := 0
 	for i := range b {
 		co := 0
 		for j := range kb {
-			var blk mat.Dense
-			blk.Mul(b[i].T(), kb[j])
+			blk := &blks[i*len(kb)+j]
 			for r := 0; r < widths[i]; r++ {
 				for c := 0; c < widths[j]; c++ {
 					full.Set(ro+r, co+c, blk.At(r, c))
@@ -475,17 +491,46 @@ func rayleighRitz(b, kb []*mat.Dense, l int) (u, ku *mat.Dense, theta []float64,
 	}
 	u = mat.NewDense(n, l, nil)
 	ku = mat.NewDense(n, l, nil)
-	ro = 0
-	for i := range b {
-		vi := v.Slice(ro, ro+widths[i], 0, l)
+	// dst = sum_i src_i V_i, in block order.
+	combine := func(dst *mat.Dense, src []*mat.Dense) {
+		ro := 0
 		var t mat.Dense
-		t.Mul(b[i], vi)
-		u.Add(u, &t)
-		t.Mul(kb[i], vi)
-		ku.Add(ku, &t)
-		ro += widths[i]
+		for i := range src {
+			vi := v.Slice(ro, ro+widths[i], 0, l)
+			t.Mul(src[i], vi)
+			dst.Add(dst, &t)
+			ro += widths[i]
+		}
 	}
+	parallel(threads, func() { combine(u, b) }, func() { combine(ku, kb) })
 	return u, ku, theta, v
+}
+
+// parallel runs fns on up to threads goroutines, the caller's included,
+// and waits. Each fn writes only its own results.
+func parallel(threads int, fns ...func()) {
+	if threads <= 1 || len(fns) <= 1 {
+		for _, f := range fns {
+			f()
+		}
+		return
+	}
+	var next atomic.Int64
+	work := func() {
+		for i := int(next.Add(1) - 1); i < len(fns); i = int(next.Add(1) - 1) {
+			fns[i]()
+		}
+	}
+	var wg sync.WaitGroup
+	for t := 1; t < min(threads, len(fns)); t++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			work()
+		}()
+	}
+	work()
+	wg.Wait()
 }
 
 type orthOpts struct {

@@ -323,7 +323,8 @@ func runDriver(ctx context.Context, e *env, opt *driverOptions) (*clusterOutcome
 		}
 	}
 	sopt := randsvd.SolveOptions{K: m.PCA.K, Oversample: m.PCA.Oversample, Tol: m.PCA.Tol, MaxPasses: m.PCA.MaxPasses,
-		Seed: m.PCA.Seed, VarTol: m.PCA.VarTol, Exact: m.PCA.ExactPasses || m.Float} // a float store's passes are all exact, as in RunPCA
+		Seed: m.PCA.Seed, VarTol: m.PCA.VarTol, Exact: m.PCA.ExactPasses || m.Float, // a float store's passes are all exact, as in RunPCA
+		Threads: threads}
 	// As randsvd.RunPCA: the bulk stop needs trace(K), exact from the counts
 	// for hard calls and unknown before the first pass for float stores.
 	if tr := op.Trace(); !math.IsNaN(tr) {
