@@ -511,10 +511,10 @@ func TestOperatorDroppedSamplesMissing(t *testing.T) {
 }
 
 // TestStreamBuffers checks the default number of chunk buffers of a pass
-// (streamBuffers): a block's chunks and two more, at least one per thread
-// and one more, and at most aheadBytes of buffers beyond those. The
-// expected counts follow from that rule (the project's own, no outside
-// source).
+// (streamBuffers): one per thread and one more, plus up to two while a
+// block takes more chunks than that (its chunks and two more), and at
+// most aheadBytes of buffers beyond one per thread. The expected counts
+// follow from that rule (the project's own, no outside source).
 func TestStreamBuffers(t *testing.T) {
 	for _, c := range []struct {
 		name                    string
@@ -522,11 +522,12 @@ func TestStreamBuffers(t *testing.T) {
 		chunkBytes              int64
 		want                    int
 	}{
-		{"5,000 samples, 1 thread: 3 chunks a block", 1, 2048, 838, 2 << 20, 5},
+		{"5,000 samples, 1 thread: 3 chunks a block", 1, 2048, 838, 2 << 20, 4},
 		{"5,000 samples, 2 threads", 2, 2048, 838, 2 << 20, 5},
 		{"many threads", 8, 2048, 838, 2 << 20, 9},
+		{"two chunks a block, 2 threads", 2, 2048, 1024, 2 << 20, 4},
 		{"chunks larger than a block", 1, 100, 1000, 2 << 20, 3},
-		{"500,000 samples: 80 chunks a block, capped", 2, 1280, 16, 4 << 20, 3 + 16},
+		{"32,000 samples: 8 chunks a block", 2, 2048, 262, 4 << 20, 5},
 		{"huge chunks: no room ahead", 2, 2048, 1, 1 << 30, 3},
 	} {
 		if got := streamBuffers(c.threads, c.target, c.chunkM, c.chunkBytes); got != c.want {

@@ -374,18 +374,20 @@ func (op *Operator) blockTarget(lp int) int { return blockTarget(op.n, lp, op.st
 const aheadBytes = 64 << 20
 
 // streamBuffers is the number of chunk buffers a pass keeps in flight by
-// default: one per thread and one more, and, within aheadBytes of
-// buffers of chunkBytes, up to a block's chunks (blocks of target
-// markers) and two more. While the kernels work on a block, the decoders
-// then get the next block's chunks ready. With one buffer per thread they
-// ran a chunk ahead, and the kernels waited on a decode after every block:
-// at 5,000 samples a 1-thread fast pass took 18% longer, a 2-thread one
-// 5% (benchmarks/kernels).
+// default: one per thread and one more, and up to two more (within
+// aheadBytes of buffers of chunkBytes) where a block of target markers
+// takes more than one chunk. While the kernels work on a block, the
+// decoders then get most of the next block ready. With one buffer per
+// thread they ran a chunk ahead, and the kernels waited on a decode after
+// every block: at 5,000 samples (three chunks a block) a 1-thread fast
+// pass took 18% longer, a 2-thread one 5% (benchmarks/kernels). A whole
+// block ahead would cost a block of buffers (a fifth more memory at
+// 32,000 samples); two cost two.
 func streamBuffers(threads, target, chunkMarkers int, chunkBytes int64) int {
 	b := max(2, threads+1)
 	perBlock := (target + chunkMarkers - 1) / max(1, chunkMarkers)
-	room := int(aheadBytes / max(1, chunkBytes))
-	return max(b, min(perBlock+2, b+room))
+	extra := min(2, max(0, perBlock+2-b), int(aheadBytes/max(1, chunkBytes)))
+	return b + extra
 }
 
 // blockTarget is Operator.blockTarget for n samples, padded block width lp
