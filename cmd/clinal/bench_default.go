@@ -6,7 +6,7 @@ package main
 // agree). Rerun clinal bench on your own machine for a model of it.
 const defaultModelJSON = `{
   "comment": "clinal bench cost model; see benchmarks/scaling/README.md",
-  "created": "2026-12-02T13:52:46Z",
+  "created": "2026-12-02T15:33:39Z",
   "machine": {
     "cpu": "Intel(R) Xeon(R) Processor",
     "cpus": 2,
@@ -35,19 +35,19 @@ const defaultModelJSON = `{
       "table_bytes"
     ],
     "coefficients": [
-      3606538.828564586,
-      1.6459663888480627,
-      0.47572810716744657,
-      0.4628044239130645
+      4149130.091488581,
+      1.6348412045210006,
+      0.46960217357734374,
+      0.4803530293495483
     ],
-    "max_relative_residual": 0.03972124521415177,
-    "leave_one_out_max_relative_error": 0.06882173952930071,
+    "max_relative_residual": 0.06936672354248075,
+    "leave_one_out_max_relative_error": 0.10330860792786822,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 54452224,
-      "predicted": 55109184.178188026,
-      "relative_error": 0.012064891567845404
+      "measured": 54644736,
+      "predicted": 57184858.14102731,
+      "relative_error": 0.04648429706069601
     }
   },
   "wall": {
@@ -60,20 +60,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.11124266478763956,
-      7.699790855767067e-11,
-      2.2166971596380574e-9,
-      0.000004408014550618373,
-      0.000014216862706074187
+      0.12957908628151654,
+      7.738137342361526e-11,
+      2.0131907011184458e-9,
+      0.00000448422855187247,
+      0.000014325542652831774
     ],
-    "max_relative_residual": 0.3006220148145323,
-    "leave_one_out_max_relative_error": 0.287940386784323,
+    "max_relative_residual": 0.2637412051901542,
+    "leave_one_out_max_relative_error": 0.2716890972861091,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 2.152121562,
-      "predicted": 2.4029768645154492,
-      "relative_error": 0.11656186478719421
+      "measured": 2.179942575,
+      "predicted": 2.3825123960624177,
+      "relative_error": 0.09292438405741832
     }
   },
   "cpu": {
@@ -86,20 +86,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.16073115404010974,
-      6.794816564760167e-11,
-      1.8624412843799964e-9,
-      0.000005644647144426555,
-      0.00002463682865435367
+      0.1846707021276744,
+      6.873976908654235e-11,
+      1.6219202633083426e-9,
+      0.000006909304627841682,
+      0.000024741929708329578
     ],
-    "max_relative_residual": 0.20458568130456445,
-    "leave_one_out_max_relative_error": 0.19992413240886997,
+    "max_relative_residual": 0.20621388536551466,
+    "leave_one_out_max_relative_error": 0.21792780958234015,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 3.613019,
-      "predicted": 3.9793100594434208,
-      "relative_error": 0.10138088381030408
+      "measured": 3.733619,
+      "predicted": 4.024557474899345,
+      "relative_error": 0.07792398605731998
     }
   },
   "points": [
@@ -113,11 +113,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.225119082,
-      "pca_cpu_seconds": 0.346762,
-      "solve_wall_seconds": 0.103913734,
-      "solve_cpu_seconds": 0.16701499999999997,
-      "pca_peak_rss_bytes": 41218048,
+      "pca_wall_seconds": 0.253882271,
+      "pca_cpu_seconds": 0.389981,
+      "solve_wall_seconds": 0.107634338,
+      "solve_cpu_seconds": 0.173055,
+      "pca_peak_rss_bytes": 41017344,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 3096000,
@@ -134,11 +134,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.324940241,
-      "pca_cpu_seconds": 0.505418,
-      "solve_wall_seconds": 0.158611014,
-      "solve_cpu_seconds": 0.25870699999999996,
-      "pca_peak_rss_bytes": 43266048,
+      "pca_wall_seconds": 0.366014235,
+      "pca_cpu_seconds": 0.5754090000000001,
+      "solve_wall_seconds": 0.16867879,
+      "solve_cpu_seconds": 0.27201,
+      "pca_peak_rss_bytes": 43282432,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 6096000,
@@ -155,11 +155,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.512465765,
-      "pca_cpu_seconds": 0.795678,
-      "solve_wall_seconds": 0.229775206,
-      "solve_cpu_seconds": 0.390806,
-      "pca_peak_rss_bytes": 45850624,
+      "pca_wall_seconds": 0.539629002,
+      "pca_cpu_seconds": 0.8759939999999999,
+      "solve_wall_seconds": 0.242071189,
+      "solve_cpu_seconds": 0.41399300000000006,
+      "pca_peak_rss_bytes": 45469696,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 12096000,
@@ -176,11 +176,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.960704906,
-      "pca_cpu_seconds": 1.486391,
-      "solve_wall_seconds": 0.427973338,
-      "solve_cpu_seconds": 0.7571469999999999,
-      "pca_peak_rss_bytes": 51126272,
+      "pca_wall_seconds": 0.938981613,
+      "pca_cpu_seconds": 1.551253,
+      "solve_wall_seconds": 0.426265473,
+      "solve_cpu_seconds": 0.7405510000000001,
+      "pca_peak_rss_bytes": 53387264,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 24096000,
@@ -197,11 +197,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.320237776,
-      "pca_cpu_seconds": 0.49157,
-      "solve_wall_seconds": 0.171013742,
-      "solve_cpu_seconds": 0.261395,
-      "pca_peak_rss_bytes": 41488384,
+      "pca_wall_seconds": 0.319642385,
+      "pca_cpu_seconds": 0.517451,
+      "solve_wall_seconds": 0.164850822,
+      "solve_cpu_seconds": 0.274294,
+      "pca_peak_rss_bytes": 41029632,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 3192000,
@@ -218,11 +218,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.466976067,
-      "pca_cpu_seconds": 0.72299,
-      "solve_wall_seconds": 0.262459049,
-      "solve_cpu_seconds": 0.40341000000000005,
-      "pca_peak_rss_bytes": 40402944,
+      "pca_wall_seconds": 0.469585912,
+      "pca_cpu_seconds": 0.75927,
+      "solve_wall_seconds": 0.244947265,
+      "solve_cpu_seconds": 0.40453399999999995,
+      "pca_peak_rss_bytes": 43036672,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 6192000,
@@ -239,11 +239,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.755985211,
-      "pca_cpu_seconds": 1.215688,
-      "solve_wall_seconds": 0.438343961,
-      "solve_cpu_seconds": 0.72677,
-      "pca_peak_rss_bytes": 44728320,
+      "pca_wall_seconds": 0.760817504,
+      "pca_cpu_seconds": 1.22766,
+      "solve_wall_seconds": 0.43006891,
+      "solve_cpu_seconds": 0.712067,
+      "pca_peak_rss_bytes": 45965312,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 12192000,
@@ -260,11 +260,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.411521163,
-      "pca_cpu_seconds": 2.203119,
-      "solve_wall_seconds": 0.808196412,
-      "solve_cpu_seconds": 1.3441869999999998,
-      "pca_peak_rss_bytes": 49721344,
+      "pca_wall_seconds": 1.417860294,
+      "pca_cpu_seconds": 2.2851410000000003,
+      "solve_wall_seconds": 0.807320151,
+      "solve_cpu_seconds": 1.3698259999999998,
+      "pca_peak_rss_bytes": 50548736,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 24192000,
@@ -281,15 +281,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.507099621,
-      "pca_cpu_seconds": 0.7969999999999999,
-      "solve_wall_seconds": 0.294185649,
-      "solve_cpu_seconds": 0.483153,
-      "pca_peak_rss_bytes": 44650496,
+      "pca_wall_seconds": 0.495177051,
+      "pca_cpu_seconds": 0.802892,
+      "solve_wall_seconds": 0.288216333,
+      "solve_cpu_seconds": 0.48294500000000007,
+      "pca_peak_rss_bytes": 45461504,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 3384000,
-        "other_bytes": 66526465
+        "other_bytes": 69186060
       }
     },
     {
@@ -302,15 +302,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.666339186,
-      "pca_cpu_seconds": 1.113717,
-      "solve_wall_seconds": 0.383194724,
-      "solve_cpu_seconds": 0.658077,
-      "pca_peak_rss_bytes": 46718976,
+      "pca_wall_seconds": 0.696484341,
+      "pca_cpu_seconds": 1.1635010000000001,
+      "solve_wall_seconds": 0.394612928,
+      "solve_cpu_seconds": 0.691792,
+      "pca_peak_rss_bytes": 46477312,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 6384000,
-        "other_bytes": 66531163
+        "other_bytes": 69192324
       }
     },
     {
@@ -323,15 +323,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.144732663,
-      "pca_cpu_seconds": 1.900018,
-      "solve_wall_seconds": 0.679039917,
-      "solve_cpu_seconds": 1.211416,
-      "pca_peak_rss_bytes": 50278400,
+      "pca_wall_seconds": 1.171784251,
+      "pca_cpu_seconds": 2.000177,
+      "solve_wall_seconds": 0.707175016,
+      "solve_cpu_seconds": 1.259879,
+      "pca_peak_rss_bytes": 51224576,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 12384000,
-        "other_bytes": 66535714
+        "other_bytes": 69198392
       }
     },
     {
@@ -344,15 +344,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 2.152121562,
-      "pca_cpu_seconds": 3.613019,
-      "solve_wall_seconds": 1.330785755,
-      "solve_cpu_seconds": 2.3697410000000003,
-      "pca_peak_rss_bytes": 54452224,
+      "pca_wall_seconds": 2.179942575,
+      "pca_cpu_seconds": 3.733619,
+      "solve_wall_seconds": 1.334282259,
+      "solve_cpu_seconds": 2.38431,
+      "pca_peak_rss_bytes": 54644736,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 24384000,
-        "other_bytes": 66535714
+        "other_bytes": 69198392
       }
     },
     {
@@ -365,15 +365,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.574330095,
-      "pca_cpu_seconds": 0.922688,
-      "solve_wall_seconds": 0.3376497,
-      "solve_cpu_seconds": 0.534846,
-      "pca_peak_rss_bytes": 56414208,
+      "pca_wall_seconds": 0.566417051,
+      "pca_cpu_seconds": 0.925436,
+      "solve_wall_seconds": 0.328121691,
+      "solve_cpu_seconds": 0.5398780000000001,
+      "pca_peak_rss_bytes": 58138624,
       "plan": {
         "solver_bytes": 10240000,
         "table_bytes": 2268000,
-        "other_bytes": 69619700
+        "other_bytes": 74099372
       }
     },
     {
@@ -386,15 +386,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 8,
       "repeats": 5,
-      "pca_wall_seconds": 0.855445312,
-      "pca_cpu_seconds": 1.309235,
-      "solve_wall_seconds": 0.510270131,
-      "solve_cpu_seconds": 0.7337370000000001,
-      "pca_peak_rss_bytes": 77516800,
+      "pca_wall_seconds": 0.865717923,
+      "pca_cpu_seconds": 1.3834529999999998,
+      "solve_wall_seconds": 0.505242798,
+      "solve_cpu_seconds": 0.792739,
+      "pca_peak_rss_bytes": 83513344,
       "plan": {
         "solver_bytes": 20480000,
         "table_bytes": 2286000,
-        "other_bytes": 78970221
+        "other_bytes": 83030987
       }
     },
     {
@@ -407,15 +407,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 9,
       "repeats": 5,
-      "pca_wall_seconds": 1.744772014,
-      "pca_cpu_seconds": 2.6284039999999997,
-      "solve_wall_seconds": 1.170397557,
-      "solve_cpu_seconds": 1.630072,
-      "pca_peak_rss_bytes": 116576256,
+      "pca_wall_seconds": 1.6799534999999999,
+      "pca_cpu_seconds": 2.6622939999999997,
+      "solve_wall_seconds": 1.063997991,
+      "solve_cpu_seconds": 1.619208,
+      "pca_peak_rss_bytes": 116371456,
       "plan": {
         "solver_bytes": 40960000,
         "table_bytes": 3822000,
-        "other_bytes": 98297490
+        "other_bytes": 102156382
       }
     },
     {
@@ -428,11 +428,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.778030807,
-      "pca_cpu_seconds": 2.73239,
-      "solve_wall_seconds": 0.772906892,
-      "solve_cpu_seconds": 1.3946209999999999,
-      "pca_peak_rss_bytes": 63217664,
+      "pca_wall_seconds": 1.7990559350000002,
+      "pca_cpu_seconds": 2.970423,
+      "solve_wall_seconds": 0.796617071,
+      "solve_cpu_seconds": 1.4419220000000001,
+      "pca_peak_rss_bytes": 63778816,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 48096000,
@@ -440,4 +440,5 @@ const defaultModelJSON = `{
       }
     }
   ]
-}`
+}
+`

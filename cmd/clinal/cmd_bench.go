@@ -205,7 +205,7 @@ func doPredict(ctx context.Context, w io.Writer, o *benchOptions) error {
 	fmt.Fprintf(w, "  CPU time     %s  (interval %s to %s; %.1f core-hours)\n", formatSeconds(f.CPU), formatSeconds(f.CPULo),
 		formatSeconds(f.CPUHi), f.CPU/3600)
 	fmt.Fprintln(w, "assumptions:")
-	fmt.Fprintf(w, "  threads      %d (wall time scales as 1/threads; memory counts the plan's chunk buffers: threads+1, and up to 64 MiB more for decoding ahead)\n", o.threads)
+	fmt.Fprintf(w, "  threads      %d (wall time scales as 1/threads; memory counts the plan's chunk buffers: threads+1, and up to two more for decoding ahead)\n", o.threads)
 	fmt.Fprintf(w, "  passes       %d (%s)\n", passes, passNote)
 	fmt.Fprintf(w, "  k, l         k=%d, block l=%d = k + oversample (a pass costs in proportion to N*M*l)\n", o.k, f.BlockSize)
 	fmt.Fprintf(w, "  run          clinal pca %s, default QC, loadings written, a geno2 store with default chunks\n", strings.Join(m.PCAFlags, " "))
