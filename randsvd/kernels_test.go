@@ -187,14 +187,19 @@ func TestBuildTable(t *testing.T) {
 	}
 }
 
-// TestFindMissing checks the word-at-a-time scan against a plain decode of
-// every 2-bit code (code 3 is a missing call, design.md's store codes) on
-// random rows of every length 1..40 bytes, missing-heavy and sparse, with
-// sample counts that end inside the last byte.
+// TestFindMissing checks the scan against a plain decode of every 2-bit
+// code (code 3 is a missing call, design.md's store codes) on random rows
+// of every length 1..40 bytes and longer ones (batches of 64 words, 5,000
+// samples), missing-heavy and sparse, with sample counts that end inside
+// the last byte. No outside source: the store's own codes.
 func TestFindMissing(t *testing.T) {
+	lengths := []int{63, 64, 65, 127, 128, 300, 520, 1250}
+	for nbytes := 1; nbytes <= 40; nbytes++ {
+		lengths = append(lengths, nbytes)
+	}
 	r := rand.New(rand.NewPCG(4, 4))
-	for _, pMiss := range []float64{0.01, 0.5, 1} {
-		for nbytes := 1; nbytes <= 40; nbytes++ {
+	for _, pMiss := range []float64{0.01, 0.1, 0.5, 1} {
+		for _, nbytes := range lengths {
 			row := make([]byte, nbytes)
 			for i := range row {
 				for s := 0; s < 4; s++ {
