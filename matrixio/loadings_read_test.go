@@ -3,6 +3,7 @@ package matrixio
 import (
 	"bytes"
 	"compress/gzip"
+	"encoding/binary"
 	"fmt"
 	"io"
 	"math"
@@ -187,14 +188,14 @@ func TestReadPCAModelBadInput(t *testing.T) {
 
 // TestLoadingsBGZF writes the same rows with one and with three compressing
 // goroutines. Expected: both files are BGZF (SAM/BAM specification
-// section 4.1: every member carries the "BC" extra field and the file ends
-// with the fixed empty EOF member), and Go's compress/gzip, an independent
-// multi-member reader, reads both back to the same text, byte for byte,
-// with more than one member (rows past one 64 KiB block). Where htslib's
+// section 4.1: every member carries the "BC" extra field giving its size,
+// and the file ends with the fixed empty EOF member), the same bytes, and
+// Go's compress/gzip, an independent multi-member reader, reads them back
+// to the expected text (rows past one 64 KiB block). Where htslib's
 // htsfile is installed (Debian tabix/htslib), it must call them BGZF.
 func TestLoadingsBGZF(t *testing.T) {
 	dir := t.TempDir()
-	var texts [][]byte
+	var texts, files [][]byte
 	for _, threads := range []int{1, 3} {
 		path := filepath.Join(dir, fmt.Sprintf("t%d.loadings.tsv.gz", threads))
 		lw, err := CreateLoadingsThreads(path, 2, threads)
@@ -214,12 +215,20 @@ func TestLoadingsBGZF(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if len(raw) < 40 || raw[3]&4 == 0 || bgzfSubfield(raw[12:12+int(raw[10])]) < 0 {
-			t.Fatalf("threads %d: first member is not BGZF", threads)
+		// Walk the members by their BSIZE fields: each must be BGZF, and
+		// the last the EOF member.
+		members := 0
+		for off := 0; off < len(raw); members++ {
+			m := raw[off:]
+			if len(m) < bgzfHeaderLen || m[0] != 0x1f || m[1] != 0x8b || m[3]&4 == 0 || bgzfSubfield(m[12:12+int(m[10])]) < 0 {
+				t.Fatalf("threads %d: member %d at byte %d is not BGZF", threads, members, off)
+			}
+			off += int(binary.LittleEndian.Uint16(m[16:])) + 1
 		}
-		if !bytes.HasSuffix(raw, bgzfEOF) {
-			t.Fatalf("threads %d: no BGZF EOF member at the end", threads)
+		if members < 3 || !bytes.HasSuffix(raw, bgzfEOF) {
+			t.Fatalf("threads %d: %d members, want several and the EOF member last", threads, members)
 		}
+		files = append(files, raw)
 		zr, err := gzip.NewReader(bytes.NewReader(raw))
 		if err != nil {
 			t.Fatal(err)
@@ -239,8 +248,8 @@ func TestLoadingsBGZF(t *testing.T) {
 			}
 		}
 	}
-	if !bytes.Equal(texts[0], texts[1]) {
-		t.Error("one and three goroutines wrote different text")
+	if !bytes.Equal(texts[0], texts[1]) || !bytes.Equal(files[0], files[1]) {
+		t.Error("one and three goroutines wrote different files")
 	}
 	if !strings.HasPrefix(string(texts[0]), LoadingsHeaderStart+"\tPC1\tPC2\n2\t100\tm0\tA\tT\tT\t0.3\t0.7\t0\t0.3333333333333333\n") {
 		t.Errorf("text starts %q", texts[0][:120])

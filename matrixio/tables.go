@@ -133,6 +133,12 @@ type LoadingsWriter struct {
 	bw  *bufio.Writer // the text
 }
 
+// loadingsDeflaters bounds the loadings' compressing goroutines: one
+// goroutine formats the rows, and a few deflaters keep up with it (each
+// holds about 1 MiB of deflate state, within the memory plan's reserve
+// for the runtime).
+const loadingsDeflaters = 4
+
 // LoadingsHeaderStart is the fixed start of the loadings header.
 const LoadingsHeaderStart = "chrom\tpos\tid\tref\talt\tallele\tfreq\tscale"
 
@@ -143,17 +149,18 @@ func CreateLoadings(path string, k int) (*LoadingsWriter, error) {
 }
 
 // CreateLoadingsThreads starts a loadings file for k PCs whose blocks are
-// compressed on up to threads goroutines. The file is BGZF (see bgzf.go):
-// any gzip reader reads it, and blocks deflate in parallel, while the
-// caller formats the next rows (a plain gzip stream is one serial
-// deflate, which was most of the loadings' time).
+// compressed on up to threads goroutines (at most loadingsDeflaters). The
+// file is BGZF (see bgzf.go): any gzip reader reads it, and blocks
+// deflate in parallel while the caller formats the next rows (a plain
+// gzip stream is one serial deflate, which was most of the loadings'
+// time).
 func CreateLoadingsThreads(path string, k, threads int) (*LoadingsWriter, error) {
 	a, err := CreateAtomic(path)
 	if err != nil {
 		return nil, err
 	}
 	fw := bufio.NewWriterSize(a, 1<<16)
-	gz := newBGZFWriter(fw, flate.BestSpeed, threads)
+	gz := newBGZFWriter(fw, flate.BestSpeed, min(threads, loadingsDeflaters))
 	lw := &LoadingsWriter{a: a, fw: fw, gz: gz, bw: bufio.NewWriterSize(gz, 1<<16)}
 	lw.bw.WriteString(LoadingsHeaderStart)
 	for j := 0; j < k; j++ {
@@ -206,6 +213,7 @@ func appendFloat(b []byte, v float64) []byte {
 // Close finishes and commits the file.
 func (lw *LoadingsWriter) Close() error {
 	if err := lw.bw.Flush(); err != nil {
+		lw.gz.abort()
 		lw.a.Discard()
 		return err
 	}
@@ -220,8 +228,11 @@ func (lw *LoadingsWriter) Close() error {
 	return lw.a.Commit()
 }
 
-// Abort removes the partial file.
-func (lw *LoadingsWriter) Abort() { lw.a.Discard() }
+// Abort stops the compressing goroutines and removes the partial file.
+func (lw *LoadingsWriter) Abort() {
+	lw.gz.abort()
+	lw.a.Discard()
+}
 
 // WriteJSON writes v as indented JSON atomically.
 func WriteJSON(path string, v any) error {

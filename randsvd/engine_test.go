@@ -512,8 +512,8 @@ func TestOperatorDroppedSamplesMissing(t *testing.T) {
 
 // TestStreamBuffers checks the default number of chunk buffers of a pass
 // (streamBuffers): one per thread and one more, plus up to two while a
-// block takes more chunks than that (its chunks and two more), and at
-// most aheadBytes of buffers beyond one per thread. The expected counts
+// block's chunks and two more exceed that, and at most aheadBytes of
+// buffers beyond the first count. The expected counts
 // follow from that rule (the project's own, no outside source).
 func TestStreamBuffers(t *testing.T) {
 	for _, c := range []struct {
@@ -538,8 +538,9 @@ func TestStreamBuffers(t *testing.T) {
 
 // TestSolveThreads runs the solver with its block products between passes
 // (Rayleigh-Ritz) on 1, 2, 3
-// and 8 goroutines. Expected: the same eigenvalues, residuals and vectors
-// to the bit (the product's rule: same seed and inputs, same numbers,
+// and 8 goroutines. Expected: the same eigenvalues, residuals, vectors,
+// and the refinement's basis and rotation (which the loadings use) to the
+// bit (the product's rule: same seed and inputs, same numbers,
 // whatever the thread count; no outside source).
 func TestSolveThreads(t *testing.T) {
 	st, _ := testCohort(t, 300, 3000, 3, 0.05, 0.01, 11, 128)
@@ -558,8 +559,10 @@ func TestSolveThreads(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		sameRot := (res.Rotation == nil) == (base.Rotation == nil) && (res.Rotation == nil || mat.Equal(res.Rotation, base.Rotation))
 		if !slices.Equal(res.Eigenvalues, base.Eigenvalues) || !slices.Equal(res.Residuals, base.Residuals) ||
-			!mat.Equal(res.Vectors, base.Vectors) || res.Passes != base.Passes {
+			!mat.Equal(res.Vectors, base.Vectors) || res.Passes != base.Passes ||
+			!slices.Equal(res.Basis, base.Basis) || !sameRot {
 			t.Errorf("threads %d: results differ from one thread (passes %d vs %d, eigenvalues %v vs %v)",
 				th, res.Passes, base.Passes, res.Eigenvalues, base.Eigenvalues)
 		}

@@ -151,8 +151,9 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		opt.Threads = 1
 	}
 	if opt.Buffers < 1 {
-		// Blocks are widest for the narrowest rows (lp 4).
-		opt.Buffers = streamBuffers(opt.Threads, blockTarget(n, 4, st.RowBytes()), st.ChunkMarkers(), st.ChunkBufferBytes())
+		// The block of the narrowest rows (lp 4) has the fewest markers,
+		// so this asks for the fewest chunks ahead (PlanMemory knows l).
+		opt.Buffers = streamBuffers(opt.Threads, blockMarkers(st, n, 4), st.ChunkMarkers(), st.ChunkBufferBytes())
 	}
 	op := &Operator{st: st, n: n, threads: opt.Threads, buffers: opt.Buffers,
 		float: st.Codec() == matrixio.CodecFloat32, progress: opt.Progress}
@@ -374,20 +375,31 @@ func (op *Operator) blockTarget(lp int) int { return blockTarget(op.n, lp, op.st
 const aheadBytes = 64 << 20
 
 // streamBuffers is the number of chunk buffers a pass keeps in flight by
-// default: one per thread and one more, and up to two more (within
-// aheadBytes of buffers of chunkBytes) where a block of target markers
-// takes more than one chunk. While the kernels work on a block, the
-// decoders then get most of the next block ready. With one buffer per
-// thread they ran a chunk ahead, and the kernels waited on a decode after
-// every block: at 5,000 samples (three chunks a block) a 1-thread fast
-// pass took 18% longer, a 2-thread one 5% (benchmarks/kernels). A whole
-// block ahead would cost a block of buffers (a fifth more memory at
-// 32,000 samples); two cost two.
+// default: one per thread and one more, then up to two more (within
+// aheadBytes of buffers of chunkBytes) while a block of target markers
+// and two chunks take more than that. While the kernels work on a block,
+// the decoders then get most of the next one ready. With one buffer per
+// thread and one more they ran a chunk ahead, and the kernels waited on a
+// decode after every block: at 5,000 samples (three chunks a block) a
+// 1-thread fast pass took 22% longer, a 2-thread one 5%
+// (benchmarks/kernels). A whole block ahead would cost a block of buffers
+// (a fifth more memory at 32,000 samples); two cost two, and two more
+// decoder goroutines (Stream runs one per buffer but one).
 func streamBuffers(threads, target, chunkMarkers int, chunkBytes int64) int {
 	b := max(2, threads+1)
 	perBlock := (target + chunkMarkers - 1) / max(1, chunkMarkers)
 	extra := min(2, max(0, perBlock+2-b), int(aheadBytes/max(1, chunkBytes)))
 	return b + extra
+}
+
+// blockMarkers is the number of markers a pass works on at once: a block
+// (blockTarget) for 2-bit stores, a chunk for float stores, which are
+// applied chunk by chunk.
+func blockMarkers(st *matrixio.Store, n, lp int) int {
+	if st.Codec() == matrixio.CodecFloat32 {
+		return st.ChunkMarkers()
+	}
+	return blockTarget(n, lp, st.RowBytes())
 }
 
 // blockTarget is Operator.blockTarget for n samples, padded block width lp

@@ -153,7 +153,7 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	}
 	fixed := p.SolverBytes + p.TableBytes + p.KernelBytes + runtimeOverhead
 	p.MinimumBytes = fixed + 2*p.ChunkBytes
-	p.Buffers = streamBuffers(threads, int(target), st.ChunkMarkers(), p.ChunkBytes)
+	p.Buffers = streamBuffers(threads, blockMarkers(st, n, int(lp)), st.ChunkMarkers(), p.ChunkBytes)
 	if limit > 0 {
 		if p.MinimumBytes > limit {
 			return p, matrixio.BadInput("--memory %s is too small: %d samples x block of %d vectors and two chunk buffers need at least %s",

@@ -427,9 +427,9 @@ func maxOf(v []float64) float64 {
 // rayleighRitz takes an orthonormal basis split in blocks B = [B1 B2 ...]
 // with their images KB, forms H = B^T K B (symmetrized), and returns the
 // top l Ritz vectors U = B V, their images KU = KB V, Ritz values and V.
-// The block products B_i^T KB_j, and then U and KU, are computed on up to
-// threads goroutines: each is one gonum product, as in serial, so the
-// numbers do not depend on threads.
+// The block products B_i^T KB_j, and then U and KU by halves of the rows,
+// are computed on up to threads goroutines: gonum computes each element
+// of a product alone, so the numbers do not depend on threads.
 func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta []float64, v *mat.Dense) {
 	n, _ := b[0].Dims()
 	widths := make([]int, len(b))
@@ -491,18 +491,33 @@ func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta [
 	}
 	u = mat.NewDense(n, l, nil)
 	ku = mat.NewDense(n, l, nil)
-	// dst = sum_i src_i V_i, in block order.
-	combine := func(dst *mat.Dense, src []*mat.Dense) {
-		ro := 0
-		var t mat.Dense
-		for i := range src {
-			vi := v.Slice(ro, ro+widths[i], 0, l)
-			t.Mul(src[i], vi)
-			dst.Add(dst, &t)
-			ro += widths[i]
+	// U = sum_i B_i V_i and KU = sum_i KB_i V_i, in block order, over two
+	// halves of the rows (each element is the same sum either way), with
+	// one temporary of half the rows each: as much memory as one N x l
+	// temporary, as in serial.
+	half := func(r0, r1 int) func() {
+		return func() {
+			if r0 == r1 {
+				return
+			}
+			var t mat.Dense
+			for _, p := range [2]struct {
+				dst *mat.Dense
+				src []*mat.Dense
+			}{{u, b}, {ku, kb}} {
+				d := p.dst.Slice(r0, r1, 0, l).(*mat.Dense)
+				ro := 0
+				for i := range p.src {
+					vi := v.Slice(ro, ro+widths[i], 0, l)
+					t.Reset()
+					t.Mul(p.src[i].Slice(r0, r1, 0, widths[i]), vi)
+					d.Add(d, &t)
+					ro += widths[i]
+				}
+			}
 		}
 	}
-	parallel(threads, func() { combine(u, b) }, func() { combine(ku, kb) })
+	parallel(threads, half(0, n/2), half(n/2, n))
 	return u, ku, theta, v
 }
 

@@ -5,8 +5,8 @@ standardized matrix held in memory (Debian python3-numpy with OpenBLAS),
 in one run on one machine, with the floors under each:
 
 - clinal: `passbench` (this folder) times a pass with 1 and 2 threads, with
-  1 thread pinned to one core (taskset, GOMAXPROCS=1: decoding shares that
-  core), and a stream-only pass that reads and decompresses every chunk and computes
+  1 thread pinned to one core (sched_setaffinity, GOMAXPROCS=1: decoding
+  shares that core), and a stream-only pass that reads and decompresses every chunk and computes
   nothing: no pass from this store can be faster;
 - numpy: W = Z X and Y = Z^T W in float32 (Z markers x samples, X samples x
   l), and the memory floor: two reads of Z at the bandwidth numpy's own
@@ -17,7 +17,7 @@ to 2 threads and from 1 to 2 cores. A pass is 4*N*M*l flops of dense arithmetic 
 
 usage: benchmarks/kernels/bench.py [--samples 5000] [--markers 50000] [--l 20] [--rounds 5]
 """
-import argparse, json, os, shutil, statistics, subprocess, sys
+import argparse, json, os, statistics, subprocess, sys
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
@@ -70,9 +70,11 @@ def main():
     # round is a side-by-side measurement; medians over rounds damp a
     # shared machine's noise.
     env = dict(os.environ, OPENBLAS_NUM_THREADS="2")
-    taskset = shutil.which("taskset")  # util-linux
-    if not taskset:
-        print("bench: taskset not found: no 1-core rows", file=sys.stderr)
+    # The 1-core run is pinned to the first CPU this process may use.
+    cpus = sorted(os.sched_getaffinity(0))
+    one_core = cpus[0] if len(cpus) >= 2 else None
+    if one_core is None:
+        print("bench: fewer than two CPUs allowed: no 1-core rows", file=sys.stderr)
     rounds = []
     for rnd in range(args.rounds):
         res = {}
@@ -80,15 +82,16 @@ def main():
             out = subprocess.check_output([os.path.join(args.out, "passbench"), "-l", str(args.l), "-threads", str(th),
                                            "-reps", str(args.reps), st])
             res[f"clinal_t{th}"] = json.loads(out)
-        # One core: the 1-thread pass pinned to core 0 with one Go
+        # One core: the 1-thread pass pinned to one CPU with one Go
         # scheduler thread (GOMAXPROCS=1), so decoding cannot run beside
         # it on the other core. 1 core -> 2 cores is the pass's parallel
         # speed-up; 1 -> 2 threads also counts the decoder's use of the
         # second core by the 1-thread pass.
-        if taskset:
-            out = subprocess.check_output([taskset, "-c", "0", os.path.join(args.out, "passbench"), "-l", str(args.l),
+        if one_core is not None:
+            out = subprocess.check_output([os.path.join(args.out, "passbench"), "-l", str(args.l),
                                            "-threads", "1", "-reps", str(args.reps), st],
-                                          env=dict(os.environ, GOMAXPROCS="1"))
+                                          env=dict(os.environ, GOMAXPROCS="1"),
+                                          preexec_fn=lambda: os.sched_setaffinity(0, {one_core}))
             res["clinal_c1"] = json.loads(out)
         res["numpy"] = json.loads(subprocess.check_output(["/usr/bin/python3", "-c", NUMPY_CHILD, npy, str(args.l),
                                                            str(args.reps)], env=env))
@@ -107,7 +110,7 @@ def main():
         ("clinal fast pass, 1 thread", m("clinal_t1", "FastSeconds")),
         ("clinal exact pass, 1 thread", m("clinal_t1", "ExactSeconds")),
     ]
-    if taskset:
+    if one_core is not None:
         rows += [
             ("clinal fast pass, 1 thread on 1 core", m("clinal_c1", "FastSeconds")),
             ("clinal exact pass, 1 thread on 1 core", m("clinal_c1", "ExactSeconds")),
@@ -133,7 +136,7 @@ def main():
     print(f"clinal fast pass / numpy pass, per round: {per}; median {med(fast):.2f}x; exact: median {med(exact):.2f}x")
     print(f"speed-up 1 -> 2 threads, median of rounds: fast {med([speed(r, 'FastSeconds') for r in rounds]):.2f}x, "
           f"exact {med([speed(r, 'ExactSeconds') for r in rounds]):.2f}x")
-    if taskset:
+    if one_core is not None:
         cores = lambda r, kind: r["clinal_c1"][kind] / r["clinal_t2"][kind]
         per = ", ".join(f"{cores(r, 'FastSeconds'):.2f}" for r in rounds)
         print(f"speed-up 1 -> 2 cores (1 thread pinned to one core vs 2 threads on two), per round: fast {per}; "
