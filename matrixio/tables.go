@@ -228,7 +228,8 @@ func (lw *LoadingsWriter) Close() error {
 	return lw.a.Commit()
 }
 
-// Abort stops the compressing goroutines and removes the partial file.
+// Abort waits for the compressing goroutines, drops their output and
+// removes the partial file.
 func (lw *LoadingsWriter) Abort() {
 	lw.gz.abort()
 	lw.a.Discard()

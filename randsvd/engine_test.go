@@ -568,3 +568,65 @@ func TestSolveThreads(t *testing.T) {
 		}
 	}
 }
+
+// TestStreamBuffersFloat checks PlanMemory's chunk buffers for a float
+// (dosage) store, which a pass applies chunk by chunk, so a "block" is one
+// chunk: 1 thread 2 + 1, 2 threads 3 + 0 (streamBuffers' rule, the
+// project's own).
+func TestStreamBuffersFloat(t *testing.T) {
+	d := prjSimulate(prjConfig{n: 40, m: 100, pops: 2, fst: 0.05, miss: 0.02, seed: 5})
+	st, _ := prjWriteFloats(t, filepath.Join(t.TempDir(), "f.clinal"), d, func(int) float32 { return 0 })
+	defer st.Close()
+	for _, c := range []struct{ threads, want int }{{1, 3}, {2, 3}, {4, 5}} {
+		p, err := PlanMemory(st, 3, 0, c.threads, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if p.Buffers != c.want {
+			t.Errorf("%d threads: %d chunk buffers, want %d", c.threads, p.Buffers, c.want)
+		}
+	}
+}
+
+// TestRayleighRitzHalves checks that rayleighRitz's U = sum_i B_i V_i and
+// KU = sum_i KB_i V_i, formed over two halves of the rows, equal to the bit
+// the same sums over whole matrices (gonum's products, in block order), for
+// odd and tiny row counts. Expected: equal (gonum computes each element of
+// a product alone; no outside source).
+func TestRayleighRitzHalves(t *testing.T) {
+	r := rand.New(rand.NewPCG(3, 5))
+	for _, n := range []int{1, 2, 3, 301} {
+		for _, threads := range []int{1, 2} {
+			widths := []int{4, 3}
+			var b, kb []*mat.Dense
+			for _, w := range widths {
+				m1, m2 := mat.NewDense(n, w, nil), mat.NewDense(n, w, nil)
+				for i := 0; i < n; i++ {
+					for j := 0; j < w; j++ {
+						m1.Set(i, j, r.NormFloat64())
+						m2.Set(i, j, r.NormFloat64())
+					}
+				}
+				b, kb = append(b, m1), append(kb, m2)
+			}
+			l := 5
+			u, ku, _, v := rayleighRitz(b, kb, l, threads)
+			for which, p := range []struct {
+				got *mat.Dense
+				src []*mat.Dense
+			}{{u, b}, {ku, kb}} {
+				want := mat.NewDense(n, l, nil)
+				ro := 0
+				for i, s := range p.src {
+					var tm mat.Dense
+					tm.Mul(s, v.Slice(ro, ro+widths[i], 0, l))
+					want.Add(want, &tm)
+					ro += widths[i]
+				}
+				if !mat.Equal(p.got, want) {
+					t.Errorf("n %d, threads %d, product %d: halves differ from the whole", n, threads, which)
+				}
+			}
+		}
+	}
+}

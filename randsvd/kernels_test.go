@@ -189,7 +189,7 @@ func TestBuildTable(t *testing.T) {
 
 // TestFindMissing checks the scan against a plain decode of every 2-bit
 // code (code 3 is a missing call, design.md's store codes) on random rows
-// of every length 1..40 bytes and longer ones (batches of 64 words, 5,000
+// of every length 1..40 bytes and longer ones (63-1,250 bytes, up to 5,000
 // samples), missing-heavy and sparse, with sample counts that end inside
 // the last byte. No outside source: the store's own codes.
 func TestFindMissing(t *testing.T) {

@@ -381,7 +381,7 @@ const aheadBytes = 64 << 20
 // the decoders then get most of the next one ready. With one buffer per
 // thread and one more they ran a chunk ahead, and the kernels waited on a
 // decode after every block: at 5,000 samples (three chunks a block) a
-// 1-thread fast pass took 22% longer, a 2-thread one 5%
+// 1-thread fast pass took 22% longer, a 2-thread one 1-5%
 // (benchmarks/kernels). A whole block ahead would cost a block of buffers
 // (a fifth more memory at 32,000 samples); two cost two, and two more
 // decoder goroutines (Stream runs one per buffer but one).

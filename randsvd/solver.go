@@ -427,9 +427,11 @@ func maxOf(v []float64) float64 {
 // rayleighRitz takes an orthonormal basis split in blocks B = [B1 B2 ...]
 // with their images KB, forms H = B^T K B (symmetrized), and returns the
 // top l Ritz vectors U = B V, their images KU = KB V, Ritz values and V.
-// The block products B_i^T KB_j, and then U and KU by halves of the rows,
-// are computed on up to threads goroutines: gonum computes each element
-// of a product alone, so the numbers do not depend on threads.
+// The block products B_i^T KB_j, and then U and KU by two fixed halves of
+// the rows, are computed on up to threads goroutines. The split does not
+// depend on threads, so neither do the numbers; and gonum computes each
+// element of a product alone, so the halves give the unsplit product's
+// numbers (TestRayleighRitzHalves).
 func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta []float64, v *mat.Dense) {
 	n, _ := b[0].Dims()
 	widths := make([]int, len(b))
