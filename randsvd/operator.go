@@ -383,7 +383,7 @@ const aheadBytes = 64 << 20
 // decode after every block: at 5,000 samples (three chunks a block) a
 // 1-thread fast pass took 22% longer, a 2-thread one 1-5%
 // (benchmarks/kernels). A whole block ahead would cost a block of buffers
-// (a fifth more memory at 32,000 samples); two cost two, and two more
+// (23% more peak memory at 32,000 samples); two cost two, and two more
 // decoder goroutines (Stream runs one per buffer but one).
 func streamBuffers(threads, target, chunkMarkers int, chunkBytes int64) int {
 	b := max(2, threads+1)

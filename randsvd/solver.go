@@ -7,9 +7,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
-	"sync"
-	"sync/atomic"
 
+	"golang.org/x/sync/errgroup"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -511,7 +510,6 @@ func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta [
 				ro := 0
 				for i := range p.src {
 					vi := v.Slice(ro, ro+widths[i], 0, l)
-					t.Reset()
 					t.Mul(p.src[i].Slice(r0, r1, 0, widths[i]), vi)
 					d.Add(d, &t)
 					ro += widths[i]
@@ -523,31 +521,15 @@ func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta [
 	return u, ku, theta, v
 }
 
-// parallel runs fns on up to threads goroutines, the caller's included,
-// and waits. Each fn writes only its own results.
+// parallel runs fns on up to threads goroutines and waits. Each fn
+// writes only its own results.
 func parallel(threads int, fns ...func()) {
-	if threads <= 1 || len(fns) <= 1 {
-		for _, f := range fns {
-			f()
-		}
-		return
+	var g errgroup.Group
+	g.SetLimit(max(1, threads))
+	for _, f := range fns {
+		g.Go(func() error { f(); return nil })
 	}
-	var next atomic.Int64
-	work := func() {
-		for i := int(next.Add(1) - 1); i < len(fns); i = int(next.Add(1) - 1) {
-			fns[i]()
-		}
-	}
-	var wg sync.WaitGroup
-	for t := 1; t < min(threads, len(fns)); t++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			work()
-		}()
-	}
-	work()
-	wg.Wait()
+	g.Wait()
 }
 
 type orthOpts struct {
