@@ -155,6 +155,54 @@ func TestFilterOrder(t *testing.T) {
 	}
 }
 
+// TestFilterHWEOnly: with FilterHWEOnly (what pca sets) the filters keep
+// and drop the same markers for the same reasons as without it, on both
+// paths (stored counts; a recount after dropping samples), and a p-value
+// is computed exactly where the HWE filter reads one: markers that the
+// filters before it kept, with --min-hwe-p above 0. Expected values are
+// the filters' own definitions (no outside source).
+func TestFilterHWEOnly(t *testing.T) {
+	c, _ := filterCohort()
+	st := c.store(t, 8)
+	dir := t.TempDir()
+	noLists := DefaultOptions()
+	noLists.MinMAF, noLists.LDR2 = 0.05, 0
+	for _, tc := range []struct {
+		name string
+		opt  Options
+	}{
+		{"recount", filterOptions(t, dir)},
+		{"stored counts", noLists},
+		{"hwe filter off", func() Options { o := noLists; o.MinHWEP = 0; return o }()},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			all := run(t, st, tc.opt)
+			lazy := tc.opt
+			lazy.FilterHWEOnly = true
+			got := run(t, st, lazy)
+			if !slices.Equal(got.MarkerWhy, all.MarkerWhy) || !slices.Equal(got.MarkerKept, all.MarkerKept) {
+				t.Fatalf("reasons %v, want %v", got.MarkerWhy, all.MarkerWhy)
+			}
+			computed := 0
+			for j, why := range all.MarkerWhy {
+				read := tc.opt.MinHWEP > 0 && (why == Kept || why == FailedHWE || why == LDPruned)
+				switch {
+				case read && got.HWEP[j] != all.HWEP[j]:
+					t.Errorf("marker %d (%v): p %v, want %v", j+1, why, got.HWEP[j], all.HWEP[j])
+				case !read && !math.IsNaN(got.HWEP[j]):
+					t.Errorf("marker %d (%v): p %v computed, not read by the filter", j+1, why, got.HWEP[j])
+				}
+				if read {
+					computed++
+				}
+			}
+			if tc.opt.MinHWEP > 0 && computed == 0 {
+				t.Error("no marker reached the HWE filter")
+			}
+		})
+	}
+}
+
 // TestRecountMatchesWriter forces the counting pass over all samples and
 // compares it with the counts the store writer computed at import (an
 // independent implementation), for a 2-bit and a float store.

@@ -32,6 +32,12 @@ type Options struct {
 	LDMemory int64 `json:"ld_memory,omitempty"`
 	Threads  int   `json:"threads,omitempty"` // goroutines (0: GOMAXPROCS); results do not depend on it
 
+	// FilterHWEOnly computes a marker's HWE p only where the HWE filter
+	// reads it: markers the filters before it kept, with MinHWEP > 0; the
+	// others get NaN. For callers that show no p (pca): the exact test was
+	// most of the count-based filters' time.
+	FilterHWEOnly bool `json:"-"`
+
 	layout int // genotype row layout (tests force one; 0 chooses)
 }
 

@@ -367,13 +367,20 @@ func Stats(c matrixio.Counts, nk int, float bool) MarkerStats {
 	return s
 }
 
-// apply computes marker j's HWE p-value and, for a marker that passed the
-// static filters, its count-based reason.
+// apply computes marker j's HWE p-value (with FilterHWEOnly, only where
+// the HWE filter reads it) and, for a marker that passed the static
+// filters, its count-based reason.
 func (f *filters) apply(sel *Selection, j int) {
 	c := sel.Counts[j]
 	sel.HWEP[j] = math.NaN()
-	if !f.float {
-		sel.HWEP[j] = HWEExact(int(c.HomRef), int(c.Het), int(c.HomAlt), f.opt.HWEMidP)
+	hweP := func() float64 {
+		if math.IsNaN(sel.HWEP[j]) {
+			sel.HWEP[j] = HWEExact(int(c.HomRef), int(c.Het), int(c.HomAlt), f.opt.HWEMidP)
+		}
+		return sel.HWEP[j]
+	}
+	if !f.float && !f.opt.FilterHWEOnly {
+		hweP()
 	}
 	if sel.MarkerWhy[j] != Kept {
 		return
@@ -386,7 +393,7 @@ func (f *filters) apply(sel *Selection, j int) {
 		sel.MarkerWhy[j] = Monomorphic
 	case s.MAF < f.opt.MinMAF:
 		sel.MarkerWhy[j] = LowMAF
-	case !f.float && f.opt.MinHWEP > 0 && sel.HWEP[j] < f.opt.MinHWEP:
+	case !f.float && f.opt.MinHWEP > 0 && hweP() < f.opt.MinHWEP:
 		sel.MarkerWhy[j] = FailedHWE
 	}
 }

@@ -9,6 +9,9 @@ import (
 	"sort"
 
 	"golang.org/x/sync/errgroup"
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -511,7 +514,7 @@ func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta [
 				for i := range p.src {
 					vi := v.Slice(ro, ro+widths[i], 0, l)
 					t.Mul(p.src[i].Slice(r0, r1, 0, widths[i]), vi)
-					d.Add(d, &t)
+					addTo(d, &t)
 					ro += widths[i]
 				}
 			}
@@ -519,6 +522,20 @@ func rayleighRitz(b, kb []*mat.Dense, l, threads int) (u, ku *mat.Dense, theta [
 	}
 	parallel(threads, half(0, n/2), half(n/2, n))
 	return u, ku, theta, v
+}
+
+// addTo sets d += t element by element, as d.Add(d, t) does, without
+// gonum's element-wise access to views (most of a Rayleigh-Ritz step's
+// time before).
+func addTo(d, t *mat.Dense) {
+	dr, tr := d.RawMatrix(), t.RawMatrix()
+	for r := 0; r < dr.Rows; r++ {
+		dd := dr.Data[r*dr.Stride : r*dr.Stride+dr.Cols]
+		tt := tr.Data[r*tr.Stride : r*tr.Stride+dr.Cols]
+		for c, v := range tt {
+			dd[c] += v
+		}
+	}
 }
 
 // parallel runs fns on up to threads goroutines and waits. Each fn
@@ -537,12 +554,32 @@ type orthOpts struct {
 	refill  *rand.Rand // replaces columns that vanish (rank deficiency)
 }
 
-// orthonormalizeWith orthonormalizes the columns of q in place by modified
+// orthonormalizeWith orthonormalizes the columns of q in place by
 // Gram-Schmidt with one reorthogonalization (Giraud et al. 2005: "twice is
-// enough"), against o.against first when given. When aq (the image K q) is
-// given, the same column operations are applied to it, so it stays K q.
+// enough"): against o.against first, when given, by whole blocks (two
+// products with it, block classical Gram-Schmidt twice), then within q by
+// modified Gram-Schmidt, twice. When aq (the image K q) is given, the same
+// column operations are applied to it, so it stays K q. A column that
+// vanishes (below 1e-10 of its norm before) is replaced from o.refill and
+// projected out column by column.
 func orthonormalizeWith(q, aq *mat.Dense, o *orthOpts) error {
 	n, l := q.Dims()
+	norm0 := make([]float64, l)
+	for j := range norm0 {
+		norm0[j] = mat.Norm(q.ColView(j), 2)
+	}
+	var against blas64.General
+	if o != nil && o.against != nil {
+		against = o.against.RawMatrix()
+		_, c := o.against.Dims()
+		coef := blas64.General{Rows: c, Cols: l, Stride: l, Data: make([]float64, c*l)}
+		qm := q.RawMatrix()
+		for pass := 0; pass < 2; pass++ {
+			// coef = A^T q; q -= A coef (no N x l temporary).
+			blas64.Gemm(blas.Trans, blas.NoTrans, 1, against, qm, 0, coef)
+			blas64.Gemm(blas.NoTrans, blas.NoTrans, -1, against, coef, 1, qm)
+		}
+	}
 	cols := make([][]float64, l)
 	for j := range cols {
 		cols[j] = mat.Col(nil, j, q)
@@ -554,35 +591,30 @@ func orthonormalizeWith(q, aq *mat.Dense, o *orthOpts) error {
 			acols[j] = mat.Col(nil, j, aq)
 		}
 	}
-	var prev [][]float64
-	if o != nil && o.against != nil {
-		_, c := o.against.Dims()
-		for j := 0; j < c; j++ {
-			prev = append(prev, mat.Col(nil, j, o.against))
-		}
-	}
 	for j := 0; j < l; j++ {
 		v := cols[j]
-		norm0 := math.Sqrt(dot(v, v))
 		for attempt := 0; ; attempt++ {
 			for pass := 0; pass < 2; pass++ {
-				for _, p := range prev {
-					c := dot(p, v)
-					axpy(-c, p, v)
+				if attempt > 0 {
+					// A refilled column still has its part along A.
+					for c := 0; c < against.Cols; c++ {
+						p := mat.Col(nil, c, o.against)
+						floats.AddScaled(v, -floats.Dot(p, v), p)
+					}
 				}
 				for i := 0; i < j; i++ {
-					c := dot(cols[i], v)
-					axpy(-c, cols[i], v)
+					c := floats.Dot(cols[i], v)
+					floats.AddScaled(v, -c, cols[i])
 					if acols != nil {
-						axpy(-c, acols[i], acols[j])
+						floats.AddScaled(acols[j], -c, acols[i])
 					}
 				}
 			}
-			nv := math.Sqrt(dot(v, v))
-			if nv > 1e-10*norm0 && nv > 1e-300 {
-				scale(1/nv, v)
+			nv := math.Sqrt(floats.Dot(v, v))
+			if nv > 1e-10*norm0[j] && nv > 1e-300 {
+				floats.Scale(1/nv, v)
 				if acols != nil {
-					scale(1/nv, acols[j])
+					floats.Scale(1/nv, acols[j])
 				}
 				break
 			}
@@ -595,17 +627,16 @@ func orthonormalizeWith(q, aq *mat.Dense, o *orthOpts) error {
 			for i := range v {
 				v[i] = o.refill.NormFloat64()
 			}
-			norm0 = math.Sqrt(dot(v, v))
+			norm0[j] = math.Sqrt(floats.Dot(v, v))
 		}
 	}
 	for j := 0; j < l; j++ {
-		for i := 0; i < n; i++ {
-			q.Set(i, j, cols[j][i])
-			if aq != nil {
-				aq.Set(i, j, acols[j][i])
-			}
+		q.SetCol(j, cols[j])
+		if aq != nil {
+			aq.SetCol(j, acols[j])
 		}
 	}
+	_ = n
 	return nil
 }
 
