@@ -19,10 +19,11 @@ import (
 // version, key (length-prefixed string identifying inputs and parameters),
 // u64 pass, l, n, k-history rows and width, then U, AU, Theta, the history,
 // TraceSqEst and PrevCaptured as float64, (version 2) u64 fast flag and
-// fast passes, (version 3) u64 refinement flag and, when it is 1, RefineIn
-// (n x l) and Rot (l x l), and a CRC32C of everything before it. Version 1
-// files (before fast passes) read as exact states, version 2 files as
-// states without a refinement basis.
+// fast passes, (version 4) u64 refinement width w (0: none) and, when it is
+// not 0, RefineIn (n x w) and Rot (w x w), and a CRC32C of everything
+// before it. Version 1 files (before fast passes) read as exact states,
+// version 2 files as states without a refinement basis, version 3 files
+// (a flag where 4 has w; 1 meant w = l) as refinements of all l columns.
 
 var ckptMagic = [8]byte{'C', 'L', 'N', 'L', 'C', 'K', 'P', 'T'}
 
@@ -33,7 +34,8 @@ var ErrCheckpointMismatch = errors.New("checkpoint belongs to other inputs or pa
 // WriteCheckpoint stores st under path atomically (temporary name, fsync,
 // rename), tagged with key.
 func WriteCheckpoint(path, key string, st *State) error {
-	if st.RefineIn != nil && (len(st.RefineIn) != st.N*st.L || len(st.Rot) != st.L*st.L) {
+	rw := st.refineWidth()
+	if st.RefineIn != nil && (rw == 0 || rw > st.L) {
 		return fmt.Errorf("checkpoint: refinement basis of %d and rotation of %d values for %d x %d", len(st.RefineIn), len(st.Rot), st.N, st.L)
 	}
 	hw := 0
@@ -54,7 +56,7 @@ func WriteCheckpoint(path, key string, st *State) error {
 			}
 		}
 		bw.Write(ckptMagic[:])
-		put(3)
+		put(4)
 		put(uint64(len(key)))
 		bw.WriteString(key)
 		for _, v := range []int{st.Pass, st.L, st.N, len(st.History), hw} {
@@ -74,7 +76,7 @@ func WriteCheckpoint(path, key string, st *State) error {
 		put(fast)
 		put(uint64(st.FastPasses))
 		if st.RefineIn != nil {
-			put(1)
+			put(uint64(rw))
 			f(st.RefineIn)
 			f(st.Rot)
 		} else {
@@ -119,7 +121,7 @@ func ReadCheckpoint(path, key string) (*State, error) {
 		return v
 	}
 	ver := get()
-	if ver < 1 || ver > 3 {
+	if ver < 1 || ver > 4 {
 		return nil, bad("unknown version")
 	}
 	kl := get()
@@ -138,15 +140,26 @@ func ReadCheckpoint(path, key string) (*State, error) {
 	if ver >= 2 {
 		need += 2 * 8 // fast flag and fast passes
 	}
-	refine := false
+	// The refinement's width w: version 3 files hold a flag (1: w = l),
+	// later ones w itself, just before the basis.
+	w := uint64(0)
 	if ver >= 3 {
-		need += 8 // refinement flag
-		refine = uint64(len(r)) == need+(n*l+l*l)*8
-		if refine {
-			need += (n*l + l*l) * 8
+		need += 8
+		if need <= uint64(len(r)) {
+			w = binary.LittleEndian.Uint64(r[need-8:])
 		}
+		if ver == 3 && w == 1 {
+			w = l
+		}
+		if w > l {
+			return nil, bad("bad refinement field")
+		}
+		need += (n*w + w*w) * 8
 	}
 	if uint64(len(r)) != need {
+		if w > 0 {
+			return nil, bad("bad refinement field")
+		}
 		return nil, bad("sizes do not match the file")
 	}
 	f := func(m uint64) []float64 {
@@ -173,16 +186,10 @@ func ReadCheckpoint(path, key string) (*State, error) {
 		st.Fast, st.FastPasses = fast == 1, int(fp)
 	}
 	if ver >= 3 {
-		want := uint64(0)
-		if refine {
-			want = 1
-		}
-		if get() != want {
-			return nil, bad("bad refinement field")
-		}
-		if refine {
-			st.RefineIn = f(n * l)
-			st.Rot = f(l * l)
+		get() // the width, read above
+		if w > 0 {
+			st.RefineIn = f(n * w)
+			st.Rot = f(w * w)
 		}
 	}
 	return st, nil

@@ -4,9 +4,12 @@ import (
 	"context"
 	"encoding/binary"
 	"errors"
+	"fmt"
 	"hash/crc32"
+	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -73,6 +76,63 @@ func TestResumeGivesSameResult(t *testing.T) {
 	}
 }
 
+// TestResumeAfterRefinement runs a solve whose tolerance is below the fast
+// passes' floor, so it refines the K wanted pairs, finds them not yet
+// converged, makes the other columns' images exact (one pass of width
+// l-K) and goes on with exact passes; resuming from the checkpoint of
+// every pass, those two included, gives the uninterrupted numbers bit for
+// bit (the product's rule of resumable runs; no outside source). The
+// result is also held to the same tolerance as the test of every
+// pair's residual.
+func TestResumeAfterRefinement(t *testing.T) {
+	st, _ := testCohort(t, 150, 800, 3, 0.05, 0.01, 21, 64)
+	op, err := NewOperator(st, OperatorOptions{Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := SolveOptions{K: 2, Seed: 3, Tol: 1e-9, MaxPasses: 20}
+	dir := t.TempDir()
+	var widths []int
+	o1 := opt
+	o1.Checkpoint = func(s *State) error {
+		widths = append(widths, s.refineWidth())
+		return WriteCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", s.Pass)), "k", s)
+	}
+	full, err := Solve(context.Background(), op, o1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	l := full.BlockSize
+	narrow := slices.Index(widths, opt.K)
+	if narrow < 0 || narrow+1 >= len(widths) || widths[narrow+1] != l {
+		t.Fatalf("refinement widths per pass %v: want a refinement of %d columns, then one of all %d", widths, opt.K, l)
+	}
+	if full.StopReason != "converged" {
+		t.Fatalf("stop %s after %d passes", full.StopReason, full.Passes)
+	}
+	for j, r := range full.Residuals {
+		if r > opt.Tol*full.Eigenvalues[j] {
+			t.Errorf("PC%d: residual %g above tol x eigenvalue", j+1, r)
+		}
+	}
+	for p := 1; p < full.Passes; p++ {
+		s, err := ReadCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", p)), "k")
+		if err != nil {
+			t.Fatal(err)
+		}
+		o := opt
+		o.Resume = s
+		res, err := Solve(context.Background(), op, o)
+		if err != nil {
+			t.Fatalf("resume after pass %d: %v", p, err)
+		}
+		if res.Passes != full.Passes || !slices.Equal(res.Eigenvalues, full.Eigenvalues) ||
+			!slices.Equal(res.Vectors.RawMatrix().Data, full.Vectors.RawMatrix().Data) {
+			t.Errorf("resumed after pass %d (refinement width %d): %d passes (want %d) or numbers differ", p, widths[p-1], res.Passes, full.Passes)
+		}
+	}
+}
+
 // TestCheckpointRefinementBasis writes the state of every pass of a solve
 // that ends on a refinement pass and reads the last one back: the basis
 // and rotation Loadings needs must survive bit for bit (a resumed run
@@ -118,10 +178,12 @@ func TestCheckpointRefinementBasis(t *testing.T) {
 }
 
 // TestCheckpointVersions reads checkpoints in the layouts of versions 1
-// (no fast-pass fields) and 2 (no refinement fields), made from a version
-// 3 file by dropping those fields, and rejects a file whose refinement
-// flag disagrees with its size (format defined in checkpoint.go; no
-// outside source).
+// (no fast-pass fields), 2 (no refinement fields) and 3 (a refinement flag,
+// 1 meaning a basis of all l columns), made from a version 4 file by
+// dropping or rewriting those fields, and version 4 files with a
+// refinement of fewer columns; it rejects a file whose refinement field
+// disagrees with its size or exceeds l (format defined in checkpoint.go;
+// no outside source).
 func TestCheckpointVersions(t *testing.T) {
 	st := &State{Pass: 4, L: 2, N: 3, U: []float64{1, 2, 3, 4, 5, 6}, AU: []float64{6, 5, 4, 3, 2, 1},
 		Theta: []float64{9, 8}, TraceSqEst: 7, PrevCaptured: 17, History: [][]float64{{0.5}}, Fast: true, FastPasses: 3}
@@ -129,33 +191,51 @@ func TestCheckpointVersions(t *testing.T) {
 	if err := WriteCheckpoint(path, "k", st); err != nil {
 		t.Fatal(err)
 	}
-	v3, err := os.ReadFile(path)
+	v4, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	body := v3[:len(v3)-4]
-	// The tail of a version 3 file without a basis: fast flag, fast
-	// passes, refinement flag (8 bytes each).
+	body := v4[:len(v4)-4]
+	seal := func(b []byte) []byte {
+		return binary.LittleEndian.AppendUint32(b, crc32.Checksum(b, crc32.MakeTable(crc32.Castagnoli)))
+	}
+	// The tail of a file without a basis: fast flag, fast passes,
+	// refinement field (8 bytes each).
 	remake := func(ver uint64, drop int) []byte {
 		b := append([]byte(nil), body[:len(body)-drop]...)
 		binary.LittleEndian.PutUint64(b[8:], ver)
-		return binary.LittleEndian.AppendUint32(b, crc32.Checksum(b, crc32.MakeTable(crc32.Castagnoli)))
+		return seal(b)
 	}
-	// A refinement flag of 1 with no basis after it.
-	bad := append([]byte(nil), body...)
-	binary.LittleEndian.PutUint64(bad[len(bad)-8:], 1)
-	bad = binary.LittleEndian.AppendUint32(bad, crc32.Checksum(bad, crc32.MakeTable(crc32.Castagnoli)))
+	// withBasis sets the refinement field to field and appends w values
+	// per sample and a w x w rotation (values 100, 101, ...).
+	withBasis := func(ver, field uint64, w int) []byte {
+		b := append([]byte(nil), body...)
+		binary.LittleEndian.PutUint64(b[8:], ver)
+		binary.LittleEndian.PutUint64(b[len(b)-8:], field)
+		for i := 0; i < 3*w+w*w; i++ {
+			b = binary.LittleEndian.AppendUint64(b, math.Float64bits(float64(100+i)))
+		}
+		return seal(b)
+	}
+	noBasis := append([]byte(nil), body...)
+	binary.LittleEndian.PutUint64(noBasis[len(noBasis)-8:], 1)
 	cases := []struct {
 		name       string
 		file       []byte
 		fast       bool
 		fastPasses int
+		width      int
 		err        string
 	}{
-		{"version 3", v3, true, 3, ""},
-		{"version 2", remake(2, 8), true, 3, ""},
-		{"version 1", remake(1, 24), false, 0, ""},
-		{"refinement flag without basis", bad, false, 0, "bad refinement field"},
+		{"version 4", v4, true, 3, 0, ""},
+		{"version 4, wanted pairs refined", withBasis(4, 1, 1), true, 3, 1, ""},
+		{"version 4, all refined", withBasis(4, 2, 2), true, 3, 2, ""},
+		{"version 3", remake(3, 0), true, 3, 0, ""},
+		{"version 3 with a basis", withBasis(3, 1, 2), true, 3, 2, ""},
+		{"version 2", remake(2, 8), true, 3, 0, ""},
+		{"version 1", remake(1, 24), false, 0, 0, ""},
+		{"refinement field without basis", seal(noBasis), false, 0, 0, "bad refinement field"},
+		{"refinement wider than l", withBasis(4, 3, 3), false, 0, 0, "bad refinement field"},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -172,9 +252,16 @@ func TestCheckpointVersions(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if got.Pass != 4 || got.Fast != tc.fast || got.FastPasses != tc.fastPasses || got.RefineIn != nil ||
+			if got.Pass != 4 || got.Fast != tc.fast || got.FastPasses != tc.fastPasses ||
 				got.TraceSqEst != 7 || got.PrevCaptured != 17 || got.U[5] != 6 || got.AU[0] != 6 || got.Theta[1] != 8 || got.History[0][0] != 0.5 {
 				t.Errorf("read back %+v", got)
+			}
+			w := tc.width
+			if got.refineWidth() != w || len(got.RefineIn) != 3*w || len(got.Rot) != w*w {
+				t.Fatalf("refinement width %d (basis %d, rotation %d values), want %d", got.refineWidth(), len(got.RefineIn), len(got.Rot), w)
+			}
+			if w > 0 && (got.RefineIn[0] != 100 || got.Rot[w*w-1] != float64(100+3*w+w*w-1)) {
+				t.Errorf("basis %v, rotation %v", got.RefineIn, got.Rot)
 			}
 		})
 	}

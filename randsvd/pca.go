@@ -248,7 +248,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 		out.Close()
 		return nil, nil, err
 	}
-	if sh.usable(op, res.BlockSize) {
+	if res.Rotation != nil && sh.usable(op, res.Rotation.RawMatrix().Rows) {
 		// The loadings need no pass: the pass buffers (block, partial
 		// products, tables: megabytes) can go before the outputs are made.
 		op.ws = nil

@@ -88,8 +88,8 @@ type Result struct {
 	BlockSize   int         // l = K + oversampling
 	StopReason  string      // "converged", "bulk-variance-stable" or "max-passes"
 	// When the last pass was a refinement pass: Vectors = Basis Rotation,
-	// Basis (N x l, row-major) its input and Rotation l x K (signs
-	// included). Nil otherwise.
+	// Basis (N x w, row-major) its input and Rotation w x K (signs
+	// included), w = K or l (State.RefineIn). Nil otherwise.
 	Basis    []float64
 	Rotation *mat.Dense
 }
@@ -113,10 +113,12 @@ type State struct {
 	Fast       bool
 	FastPasses int
 	// After a refinement pass (the exact pass that ends the fast ones):
-	// its input RefineIn (N x l) and the Rayleigh-Ritz rotation Rot (l x l,
-	// row-major) with U = RefineIn Rot. Marker loadings are computed from
-	// them (Loadings), so a resumed run gives the same ones. Nil after
-	// other passes.
+	// its input RefineIn (N x w) and the Rayleigh-Ritz rotation Rot (w x w,
+	// row-major) with the first w columns of U = RefineIn Rot. w is K (the
+	// wanted pairs; columns K.. of AU are then still fast images), or l
+	// after the exact pass on those other columns that precedes further
+	// passes. Marker loadings are computed from them (Loadings), so a
+	// resumed run gives the same ones. Nil after other passes.
 	RefineIn, Rot []float64
 }
 
@@ -169,6 +171,9 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		st = opt.Resume
 		if st.N != n || st.L != l || len(st.U) != n*l || len(st.AU) != n*l || len(st.Theta) != l {
 			return nil, errors.New("solve: checkpoint does not match this problem (samples or block size differ)")
+		}
+		if w := st.refineWidth(); st.RefineIn != nil && w != opt.K && w != l {
+			return nil, errors.New("solve: checkpoint does not match this problem (refinement width differs)")
 		}
 	} else {
 		// Pass 1: Gaussian start.
@@ -248,27 +253,36 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			stop = "max-passes"
 		}
 		if stop != "" && st.Fast {
-			// Refinement: one exact pass on the Ritz vectors and
-			// Rayleigh-Ritz on them gives float64 Ritz values, vectors
-			// and residuals; the stopping tests then run again, strictly.
+			// Refinement: one exact pass on the K wanted Ritz vectors and
+			// Rayleigh-Ritz on them give float64 Ritz values, vectors and
+			// residuals for those pairs; the stopping tests, which read
+			// only them, then run again, strictly. The other l-K columns
+			// keep their fast images until a later pass needs them
+			// (exactTail): refining the wanted pairs only costs an exact
+			// pass of width K, not l.
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
-			y := make([]float64, n*l)
+			w := opt.K
+			in := make([]float64, n*w)
+			ud := u.RawMatrix()
+			for i := 0; i < n; i++ {
+				copy(in[i*w:(i+1)*w], ud.Data[i*ud.Stride:i*ud.Stride+w])
+			}
+			y := make([]float64, n*w)
 			c, capture := a.(capturer)
 			capture = capture && opt.stash != nil
 			var err error
 			if capture {
-				err = c.applyCapture(ctx, u.RawMatrix().Data, y, l, opt.stash)
+				err = c.applyCapture(ctx, in, y, w, opt.stash)
 			} else {
-				err = a.Apply(ctx, u.RawMatrix().Data, y, l)
+				err = a.Apply(ctx, in, y, w)
 			}
 			if err != nil {
 				return nil, err
 			}
-			in := u.RawMatrix().Data
-			var rot *mat.Dense
-			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{mat.NewDense(n, l, y)}, l, th)
+			ur, aur, thr, rot := rayleighRitz([]*mat.Dense{mat.NewDense(n, w, in)}, []*mat.Dense{mat.NewDense(n, w, y)}, w, th)
+			u, au, theta = withHead(u, ur), withHead(au, aur), append(thr, theta[w:]...)
 			if capture {
 				opt.stash.pass = st.Pass + 1
 			}
@@ -289,6 +303,42 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		if stop != "" {
 			reason = stop
 			break
+		}
+		if w := st.refineWidth(); w > 0 && w < l {
+			// More passes after a refinement of the wanted pairs: the
+			// other columns' images are still fast ones. An exact pass on
+			// them and Rayleigh-Ritz on all l columns make the state what
+			// a refinement of all l gives; the tests then run again.
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+			ud := u.RawMatrix()
+			tail := make([]float64, n*(l-w))
+			for i := 0; i < n; i++ {
+				copy(tail[i*(l-w):(i+1)*(l-w)], ud.Data[i*ud.Stride+w:i*ud.Stride+l])
+			}
+			yt := make([]float64, n*(l-w))
+			if err := a.Apply(ctx, tail, yt, l-w); err != nil {
+				return nil, err
+			}
+			full := mat.DenseCopyOf(au)
+			full.Slice(0, n, w, l).(*mat.Dense).Copy(mat.NewDense(n, l-w, yt))
+			in := u.RawMatrix().Data
+			var rot *mat.Dense
+			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{full}, l, th)
+			st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
+				PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
+			prevVar = captured
+			if opt.Pass != nil {
+				opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
+			}
+			if opt.Checkpoint != nil {
+				if err := opt.Checkpoint(st); err != nil {
+					return nil, err
+				}
+			}
+			continue
 		}
 		if st.RefineIn != nil {
 			// More passes after the refinement: its basis is no longer
@@ -337,13 +387,13 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	}
 	res, signs := finish(u, au, theta, st, opt)
 	res.StopReason = reason
-	if st.RefineIn != nil && len(st.Rot) == l*l {
+	if w := st.refineWidth(); w >= opt.K {
 		// Fold the sign convention into the rotation: Vectors = Basis Rotation.
 		res.Basis = st.RefineIn
-		res.Rotation = mat.NewDense(l, opt.K, nil)
-		for i := 0; i < l; i++ {
+		res.Rotation = mat.NewDense(w, opt.K, nil)
+		for i := 0; i < w; i++ {
 			for j := 0; j < opt.K; j++ {
-				res.Rotation.Set(i, j, signs[j]*st.Rot[i*l+j])
+				res.Rotation.Set(i, j, signs[j]*st.Rot[i*w+j])
 			}
 		}
 	}
@@ -351,6 +401,28 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		s.discard() // it holds an earlier pass (or none)
 	}
 	return res, nil
+}
+
+// refineWidth is the number of columns the refinement pass that made st
+// applied K to (K, or l after exactTail's pass): RefineIn is N x w and
+// Rot w x w. 0 when st is not a refinement's state.
+func (st *State) refineWidth() int {
+	if st.RefineIn == nil || st.N == 0 || len(st.RefineIn)%st.N != 0 {
+		return 0
+	}
+	w := len(st.RefineIn) / st.N
+	if len(st.Rot) != w*w {
+		return 0
+	}
+	return w
+}
+
+// withHead returns a copy of m (n x l) whose first columns are h's.
+func withHead(m, h *mat.Dense) *mat.Dense {
+	out := mat.DenseCopyOf(m)
+	r, c := h.Dims()
+	out.Slice(0, r, 0, c).(*mat.Dense).Copy(h)
+	return out
 }
 
 func sum(v []float64) float64 {

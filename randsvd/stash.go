@@ -13,14 +13,14 @@ import (
 
 // A stash keeps, on disk, the marker-side products W = Z U that the
 // refinement pass of Solve computes anyway (the first half of an Operator
-// pass, one row of l values per kept marker). The final sample vectors are
+// pass, one row per kept marker of the K values of the wanted pairs' U). The final sample vectors are
 // U times a small rotation R (Rayleigh-Ritz on span U, then signs:
 // Result.Basis and Rotation), so the loadings Z u_k = (Z U) R_k follow
 // from the stash with no further pass over the store. Without it (a
 // resumed run, a cluster run, a failed write) Loadings computes Z U in a
 // half pass, with the same kernels, so the numbers are the same.
 //
-// The rows take M * l * 8 bytes of disk, not memory, in a file that has no
+// The rows take M * K * 8 bytes of disk, not memory, in a file that has no
 // name (O_TMPFILE on Linux; elsewhere one unlinked as soon as it is made),
 // so nothing is left behind by a crash. A capture that fails, or that a
 // later pass makes stale, gives its disk back at once (discard).

@@ -77,7 +77,7 @@ func TestLoadingsAgainstDense(t *testing.T) {
 			if (res.Rotation != nil) == tc.exact {
 				t.Fatalf("rotation %v with exact passes %v (stop %s after %d passes, %d fast)", res.Rotation != nil, tc.exact, res.StopReason, res.Passes, res.FastPasses)
 			}
-			if u := res.stash.usable(op, res.BlockSize); u != tc.wantStash {
+			if u := res.stash.usable(op, rotationRows(res)); u != tc.wantStash {
 				t.Fatalf("stash usable %v, want %v", u, tc.wantStash)
 			}
 			if op.NumKeptMarkers() != m {
@@ -182,7 +182,7 @@ func TestLoadingsStashCases(t *testing.T) {
 	})
 	t.Run("second call and threads", func(t *testing.T) {
 		res, op := run(t, PCAOptions{K: 4})
-		if !res.stash.usable(op, res.BlockSize) {
+		if !res.stash.usable(op, rotationRows(res)) {
 			t.Fatal("no usable stash")
 		}
 		first := loadingsVsDense(t, op, res, z)
@@ -207,4 +207,13 @@ func TestLoadingsStashCases(t *testing.T) {
 		}
 		loadingsVsDense(t, op, res, z)
 	})
+}
+
+// rotationRows is the width of the basis the loadings of res are computed
+// from (0 without a refinement).
+func rotationRows(res *PCAResult) int {
+	if res.Rotation == nil {
+		return 0
+	}
+	return res.Rotation.RawMatrix().Rows
 }
