@@ -145,7 +145,7 @@ func TestCheckpointRefinementBasis(t *testing.T) {
 	}
 	path := filepath.Join(t.TempDir(), "x.ckpt")
 	var last *State
-	res, err := Solve(context.Background(), op, SolveOptions{K: 4, Seed: 3, BulkEdge: 1.5,
+	res, err := Solve(context.Background(), op, SolveOptions{K: 4, Seed: 3, BulkEdge: MPUpperEdgeScaled(op.Trace(), op.Dim(), op.Markers()),
 		Checkpoint: func(s *State) error { last = s; return WriteCheckpoint(path, "k", s) }})
 	if err != nil {
 		t.Fatal(err)
@@ -168,7 +168,7 @@ func TestCheckpointRefinementBasis(t *testing.T) {
 		}
 	}
 	// Resuming from it stops at once with the same basis and rotation.
-	again, err := Solve(context.Background(), op, SolveOptions{K: 4, Seed: 3, BulkEdge: 1.5, Resume: back})
+	again, err := Solve(context.Background(), op, SolveOptions{K: 4, Seed: 3, BulkEdge: MPUpperEdgeScaled(op.Trace(), op.Dim(), op.Markers()), Resume: back})
 	if err != nil {
 		t.Fatal(err)
 	}

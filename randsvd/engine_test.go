@@ -569,6 +569,63 @@ func TestSolveThreads(t *testing.T) {
 	}
 }
 
+// TestWorkspaceWidths applies one operator to blocks of changing widths,
+// fast and exact passes mixed (as Solve does: l, its Krylov block, K), so
+// each new width takes over the buffers of the last one, and compares
+// every result bit for bit with a fresh operator's (whose buffers are
+// new): reused buffers must not change a number (determinism, no outside
+// source). 130 samples make the second product's extra marker parts
+// (ypart) take part; some samples are dropped.
+func TestWorkspaceWidths(t *testing.T) {
+	st, _ := testCohort(t, 130, 700, 3, 0.05, 0.03, 31, 64)
+	// Every seventh sample dropped: their rows of X must stay zero
+	// whatever width came before.
+	keep := make([]bool, st.NumSamples())
+	for i := range keep {
+		keep[i] = i%7 != 3
+	}
+	counts, err := CountKept(context.Background(), st, keep, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	oo := OperatorOptions{Threads: 3, SampleKept: keep, Counts: counts}
+	op, err := NewOperator(st, oo)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := op.Dim()
+	r := rand.New(rand.NewPCG(4, 4))
+	for i, c := range []struct {
+		l    int
+		fast bool
+	}{{20, true}, {12, true}, {10, false}, {20, false}, {3, true}, {24, true}, {12, false}} {
+		x := make([]float64, n*c.l)
+		for j := range x {
+			x[j] = r.NormFloat64()
+		}
+		fresh, err := NewOperator(st, oo)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, want := make([]float64, n*c.l), make([]float64, n*c.l)
+		apply := func(o *Operator, y []float64) error {
+			if c.fast {
+				return o.ApplyFast(context.Background(), x, y, c.l)
+			}
+			return o.Apply(context.Background(), x, y, c.l)
+		}
+		if err := apply(op, got); err != nil {
+			t.Fatal(err)
+		}
+		if err := apply(fresh, want); err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(got, want) {
+			t.Errorf("step %d (width %d, fast %v): reused buffers give other numbers than new ones", i, c.l, c.fast)
+		}
+	}
+}
+
 // TestStreamBuffersFloat checks PlanMemory's chunk buffers for a float
 // (dosage) store, which a pass applies chunk by chunk, so a "block" is one
 // chunk: 1 thread 2 + 1, 2 threads 3 + 0 (streamBuffers' rule, the

@@ -346,6 +346,7 @@ type workspace struct {
 	trace     []float64 // float stores: per-marker sum of squares
 	tabs      [][]float64
 	tbuf      [][]byte    // per thread: a tile of the block transposed (transposeTile)
+	tspare    [][]byte    // a workspace of another width's tbuf, for secondBuffers
 	toffs     []int32     // each sample's offset in a transposed row (transposedOffset)
 	tstride   int         // bytes per transposed row (one group of markers)
 	jobs2     []int       // second-product sample jobs: segment boundaries (secondJob)
@@ -453,8 +454,28 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 	ws := op.ws
 	if ws == nil || ws.l != l {
 		// One row layout for exact and fast passes: rows of dropped samples
-		// and padding columns stay zero.
-		ws = &workspace{l: l, lp: lp, x: make([]float64, op.n*lp), tot: make([]float64, lp), btot: make([]float64, lp)}
+		// and padding columns stay zero. The solver applies K to a few
+		// widths (l, its Krylov block, K): a workspace of another width
+		// hands its buffers on, so a new width allocates only what grows
+		// and the old buffers are not left to the collector.
+		nw := &workspace{l: l, lp: lp}
+		if ws != nil {
+			nw.adopt(ws)
+		}
+		ws = nw
+		ws.x = grow(ws.x, op.n*lp)
+		clear(ws.x)
+		ws.tot, ws.btot = grow(ws.tot, lp), grow(ws.btot, lp)
+		if ws.x32 != nil {
+			ws.x32 = grow32(ws.x32, op.n*lp)
+			clear(ws.x32)
+			for t := range ws.tabs32 {
+				ws.tabs32[t] = grow32(ws.tabs32[t], tileGroups32(lp)*256*lp)
+			}
+		}
+		for t := range ws.tabs {
+			ws.tabs[t] = grow(ws.tabs[t], tileGroups(lp)*256*lp)
+		}
 		op.ws = ws
 	}
 	ws.fast = fast
@@ -495,6 +516,21 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 	return ws
 }
 
+// adopt takes over old's buffers (a workspace of another width): the
+// sizes depend on the width, so every user grows them to its own
+// (newWorkspace, secondBuffers and the block functions do).
+func (ws *workspace) adopt(old *workspace) {
+	ws.x, ws.x32, ws.tabs, ws.tabs32, ws.y = old.x, old.x32, old.tabs, old.tabs32, old.y
+	ws.tot, ws.btot = old.tot, old.btot
+	ws.w, ws.wpp, ws.mwpp, ws.wpp32, ws.mwpp32 = old.w, old.wpp, old.mwpp, old.wpp32, old.mwpp32
+	ws.scratch, ws.scratch32, ws.part, ws.miss = old.scratch, old.scratch32, old.part, old.miss
+	ws.z, ws.ss, ws.trace = old.z, old.ss, old.trace
+	ws.block, ws.bsels, ws.csels, ws.offs = old.block[:0], old.bsels[:0], old.csels[:0], old.offs
+	// The second product's buffers are set up again for the new width
+	// (secondBuffers), from these.
+	ws.ypart, ws.tspare = old.ypart, old.tbuf
+}
+
 // secondBuffers sets up the second product of a 2-bit store's passes:
 // its units (secondJob), marker parts (secondParts) times sample jobs,
 // the segments split into runs so that there are about as many units as
@@ -505,9 +541,14 @@ func (op *Operator) secondBuffers(ws *workspace) {
 	nseg := len(op.segs) - 1
 	ws.parts2 = secondParts(op.n)
 	nj := min(nseg, max(1, (op.threads+ws.parts2-1)/ws.parts2))
+	old := ws.ypart
 	ws.ypart = make([][]float64, ws.parts2-1)
 	for p := range ws.ypart {
-		ws.ypart[p] = make([]float64, op.n*lp)
+		var b []float64
+		if p < len(old) {
+			b = old[p]
+		}
+		ws.ypart[p] = grow(b, op.n*lp)
 	}
 	ws.jobs2 = make([]int, nj+1)
 	for j := range ws.jobs2 {
@@ -521,8 +562,13 @@ func (op *Operator) secondBuffers(ws *workspace) {
 	ng := max(tileGroups(lp), tileGroups32(lp))
 	ws.tbuf = make([][]byte, op.threads)
 	for t := range ws.tbuf {
-		ws.tbuf[t] = make([]byte, ng*rows)
+		if t < len(ws.tspare) && cap(ws.tspare[t]) >= ng*rows {
+			ws.tbuf[t] = ws.tspare[t][:ng*rows]
+		} else {
+			ws.tbuf[t] = make([]byte, ng*rows)
+		}
 	}
+	ws.tspare = nil
 	ws.tstride = rows
 	ws.toffs = make([]int32, rows)
 	for q := range ws.toffs {
