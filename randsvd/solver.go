@@ -95,7 +95,8 @@ type Result struct {
 }
 
 // State is the solver's state after a completed pass: enough to continue
-// bit-identically. U and AU are N x l row-major.
+// bit-identically. U and AU are N x L row-major: L is the basis width l,
+// or after the first pass the width b of its block (blockWidth).
 type State struct {
 	Pass       int
 	L          int
@@ -124,14 +125,15 @@ type State struct {
 
 // Solve computes the top-K eigenpairs of a by a restarted block Krylov
 // method: randomized start (Halko, Martinsson & Tropp 2011, SIAM Rev
-// 53:217), then at each pass the current l Ritz vectors U are extended by
-// one Krylov block (the residual block R = KU - U Theta, orthonormalized
-// against U) and Rayleigh-Ritz on span[U, R] keeps the best l pairs. One
-// pass is one application of K to l vectors; the space grows like a block
-// Krylov space (Musco & Musco 2015, NeurIPS) with a thick restart that keeps
-// memory at a fixed number of N x l blocks. The stop is residual based:
-// every wanted pair has ||K u - lambda u|| <= Tol * lambda, or MaxPasses.
-// The first pass applies K to a Gaussian block, which also gives the
+// 53:217), then at each pass the current Ritz vectors U (at most l) are
+// extended by one Krylov block (the residual block R = KU - U Theta of the
+// top b pairs, orthonormalized against U; b = blockWidth(K, l)) and
+// Rayleigh-Ritz on span[U, R] keeps the best l pairs. One pass is one
+// application of K to b vectors; the space grows like a block Krylov space
+// (Musco & Musco 2015, NeurIPS) with a thick restart that keeps memory at a
+// fixed number of N x l blocks. The stop is residual based: every wanted
+// pair has ||K u - lambda u|| <= Tol * lambda, or MaxPasses. The first pass
+// applies K to a Gaussian block of b vectors, which also gives the
 // Hutchinson (1989) estimate of trace(K^2) = E||K w||^2.
 func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	n := a.Dim()
@@ -170,21 +172,23 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	var st *State
 	if opt.Resume != nil {
 		st = opt.Resume
-		if st.N != n || st.L != l || len(st.U) != n*l || len(st.AU) != n*l || len(st.Theta) != l {
+		// The basis is l wide, or b after the start pass (older files: l).
+		if st.N != n || st.L != l && (st.Pass != 1 || st.L != b) || len(st.U) != n*st.L || len(st.AU) != n*st.L || len(st.Theta) != st.L {
 			return nil, errors.New("solve: checkpoint does not match this problem (samples or block size differ)")
 		}
-		if w := st.refineWidth(); st.RefineIn != nil && w != opt.K && w != l {
+		if w := st.refineWidth(); st.RefineIn != nil && w != opt.K && w != st.L {
 			return nil, errors.New("solve: checkpoint does not match this problem (refinement width differs)")
 		}
 	} else {
-		// Pass 1: Gaussian start.
+		// Pass 1: Gaussian start, a block of b vectors like every later
+		// pass (the basis grows to l with the next one).
 		rng := rand.New(rand.NewPCG(opt.Seed, 0x636c696e616c)) // "clinal"
-		omega := make([]float64, n*l)
+		omega := make([]float64, n*b)
 		for i := range omega {
 			omega[i] = rng.NormFloat64()
 		}
-		y := make([]float64, n*l)
-		if err := apply(fast)(ctx, omega, y, l); err != nil {
+		y := make([]float64, n*b)
+		if err := apply(fast)(ctx, omega, y, b); err != nil {
 			return nil, err
 		}
 		var ss float64
@@ -192,13 +196,13 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			ss += v * v
 		}
 		// Q0 = Omega R^-1 and K Q0 = Y R^-1 (Omega is well conditioned).
-		q := mat.NewDense(n, l, omega)
-		aq := mat.NewDense(n, l, y)
+		q := mat.NewDense(n, b, omega)
+		aq := mat.NewDense(n, b, y)
 		if err := orthonormalizeWith(q, aq, nil); err != nil {
 			return nil, fmt.Errorf("solve: start block: %w", err)
 		}
-		u, au, theta, _ := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, l, th)
-		st = &State{Pass: 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(l), PrevCaptured: math.NaN(),
+		u, au, theta, _ := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, b, th)
+		st = &State{Pass: 1, L: b, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(b), PrevCaptured: math.NaN(),
 			Fast: fast}
 		if fast {
 			st.FastPasses = 1
@@ -213,8 +217,8 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			}
 		}
 	}
-	u := mat.NewDense(n, l, st.U)
-	au := mat.NewDense(n, l, st.AU)
+	u := mat.NewDense(n, st.L, st.U)
+	au := mat.NewDense(n, st.L, st.AU)
 	theta := st.Theta
 	reason := "max-passes"
 	prevVar := st.PrevCaptured
@@ -287,7 +291,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			if capture {
 				opt.stash.pass = st.Pass + 1
 			}
-			st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+			st = &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
 				PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
 			prevVar = captured
@@ -305,29 +309,29 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			reason = stop
 			break
 		}
-		if w := st.refineWidth(); w > 0 && w < l {
+		if w, c := st.refineWidth(), st.L; w > 0 && w < c {
 			// More passes after a refinement of the wanted pairs: the
 			// other columns' images are still fast ones. An exact pass on
-			// them and Rayleigh-Ritz on all l columns make the state what
-			// a refinement of all l gives; the tests then run again.
+			// them and Rayleigh-Ritz on all c columns make the state what
+			// a refinement of all c gives; the tests then run again.
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
 			ud := u.RawMatrix()
-			tail := make([]float64, n*(l-w))
+			tail := make([]float64, n*(c-w))
 			for i := 0; i < n; i++ {
-				copy(tail[i*(l-w):(i+1)*(l-w)], ud.Data[i*ud.Stride+w:i*ud.Stride+l])
+				copy(tail[i*(c-w):(i+1)*(c-w)], ud.Data[i*ud.Stride+w:i*ud.Stride+c])
 			}
-			yt := make([]float64, n*(l-w))
-			if err := a.Apply(ctx, tail, yt, l-w); err != nil {
+			yt := make([]float64, n*(c-w))
+			if err := a.Apply(ctx, tail, yt, c-w); err != nil {
 				return nil, err
 			}
 			full := mat.DenseCopyOf(au)
-			full.Slice(0, n, w, l).(*mat.Dense).Copy(mat.NewDense(n, l-w, yt))
+			full.Slice(0, n, w, c).(*mat.Dense).Copy(mat.NewDense(n, c-w, yt))
 			in := u.RawMatrix().Data
 			var rot *mat.Dense
-			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{full}, l, th)
-			st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{full}, c, th)
+			st = &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
 				PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
 			prevVar = captured
@@ -371,7 +375,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		}
 		arm := mat.NewDense(n, b, ar)
 		u, au, theta, _ = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l, th)
-		st = &State{Pass: st.Pass + 1, L: l, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+		st = &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
 			PrevCaptured: captured, Fast: st.Fast, FastPasses: st.FastPasses}
 		if st.Fast {
@@ -387,7 +391,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		}
 	}
 	res, signs := finish(u, au, theta, st, opt)
-	res.StopReason = reason
+	res.StopReason, res.BlockSize = reason, l
 	if w := st.refineWidth(); w >= opt.K {
 		// Fold the sign convention into the rotation: Vectors = Basis Rotation.
 		res.Basis = st.RefineIn
@@ -404,15 +408,15 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	return res, nil
 }
 
-// blockWidth is the width b of the Krylov block a pass after the first
-// adds: the residuals of the top b Ritz pairs, b = max(K, l/2) rounded up
+// blockWidth is the width b of every pass's block: the Gaussian start,
+// then the residuals of the top b Ritz pairs; b = max(K, l/2) rounded up
 // to a multiple of 4 (the kernels pad rows to one, so those columns cost
-// nothing), at most l. The basis stays l wide (thick restart), so the
-// pairs past b still gain from every block, but a pass applies K to b
-// vectors, not l: a fast pass at 5,000 samples took 0.145 s at width 12
-// against 0.175 s at 20 (benchmarks/kernels passbench). With the residuals
-// of all l pairs, the passes to a stop and the captured variance were
-// about the same on the benchmark cohorts (DEVELOPERS.md: the block).
+// nothing), at most l. The basis grows to l and stays l wide (thick
+// restart), so the pairs past b still gain from every block, but a pass
+// applies K to b vectors, not l: a fast pass at 5,000 samples took 0.145 s
+// at width 12 against 0.175 s at 20 (benchmarks/kernels passbench). With
+// blocks of l, the passes to a stop and the captured variance were about
+// the same on the benchmark cohorts (DEVELOPERS.md, "The Krylov block").
 func blockWidth(k, l int) int {
 	return min(l, (max(k, (l+1)/2)+3)&^3)
 }

@@ -3,10 +3,10 @@
 clinal's solver (randsvd.Solve) in numpy on a dense K, to compare block
 widths by passes to the stop and captured variance.
 
-The model: a Gaussian start of l columns, Rayleigh-Ritz, then each pass
-adds the residual block of the top b Ritz pairs (orthonormalized against
-the basis), applies K to it, and keeps the best l pairs of the enlarged
-basis; the stop is clinal's (every wanted pair's relative residual below
+The model: a Gaussian start block, Rayleigh-Ritz, then each pass adds the
+residual block of the top b Ritz pairs (orthonormalized against the
+basis), applies K to it, and keeps the best l pairs of the enlarged basis;
+clinal starts with b columns too, the comparison ("b = l") with l; the stop is clinal's (every wanted pair's relative residual below
 max(tol, 6e-7 theta_1 / theta_j), or the pairs above the Marchenko-Pastur
 edge converged and the captured variance changed by less than 2e-3 in the
 last pass). Exact arithmetic: no fast passes, no refinement pass.
@@ -34,9 +34,9 @@ def solve(k_mat, m, k, b, seed, tol=1e-6, vartol=2e-3, maxp=30, floor=6e-7):
     l = min(k + max(10, k // 2), n)
     b = min(b, l)
     edge = np.trace(k_mat) / n * (1 + np.sqrt(n / m)) ** 2
-    q, _ = np.linalg.qr(np.random.default_rng(seed).standard_normal((n, l)))
+    q, _ = np.linalg.qr(np.random.default_rng(seed).standard_normal((n, b)))
     u, ku, th = rr(q, k_mat @ q, l)
-    width, prev = l, None
+    width, prev = b, None
     for p in range(1, maxp + 1):
         rel = np.linalg.norm(ku - u * th, axis=0)[:k] / np.abs(th[:k])
         conv = rel <= np.maximum(tol, floor * th[0] / th[:k])
