@@ -12,6 +12,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"sync"
 
 	"github.com/klauspost/compress/zstd"
@@ -37,10 +38,72 @@ type Store struct {
 	maxComp    int // largest compressed chunk
 
 	poolMu sync.Mutex
-	pool   []*Chunk // chunk buffers kept between streams (at most maxPooled)
+	pool   []*Chunk  // chunk buffers kept between streams (at most maxPooled)
+	ahead  *prefetch // chunks decoded for the next Stream (Prefetch)
 }
 
 const maxPooled = 16
+
+// prefetch is a run of chunks decoded by Prefetch for the next Stream.
+type prefetch struct {
+	chunks []int
+	bufs   []*Chunk
+	errs   []error
+	done   chan struct{} // closed when every chunk is decoded
+}
+
+// Prefetch decodes the given chunks, in order, on one goroutine, into
+// buffers of the store's pool, for the next Stream whose list starts with
+// them: a caller that streams the same chunks pass after pass (the PCA
+// operator) lets the first chunks of the next pass decode while it does
+// serial work between passes, so that pass starts without waiting for
+// them. The buffers are the ones the last Stream returned to the pool; a
+// Stream over other chunks, or Close, gives them back. A new Prefetch
+// replaces an unused one.
+func (s *Store) Prefetch(chunks []int) {
+	s.dropPrefetch()
+	p := &prefetch{chunks: append([]int(nil), chunks...), done: make(chan struct{})}
+	p.bufs = make([]*Chunk, len(chunks))
+	p.errs = make([]error, len(chunks))
+	for i := range p.bufs {
+		p.bufs[i] = s.getChunk()
+	}
+	s.poolMu.Lock()
+	s.ahead = p
+	s.poolMu.Unlock()
+	go func() {
+		defer close(p.done)
+		for i, c := range p.chunks {
+			p.errs[i] = s.ReadChunk(c, p.bufs[i])
+		}
+	}()
+}
+
+// takePrefetch returns the prefetched chunks when chunks starts with them
+// (after they are decoded), else nil; either way the store holds none
+// after it.
+func (s *Store) takePrefetch(chunks []int) *prefetch {
+	s.poolMu.Lock()
+	p := s.ahead
+	s.ahead = nil
+	s.poolMu.Unlock()
+	if p == nil {
+		return nil
+	}
+	<-p.done
+	if len(p.chunks) > len(chunks) || !slices.Equal(p.chunks, chunks[:len(p.chunks)]) {
+		for _, b := range p.bufs {
+			s.putChunk(b)
+		}
+		return nil
+	}
+	return p
+}
+
+// dropPrefetch waits for an unused prefetch and gives its buffers back.
+func (s *Store) dropPrefetch() {
+	s.takePrefetch(nil)
+}
 
 func (s *Store) getChunk() *Chunk {
 	s.poolMu.Lock()
@@ -87,6 +150,7 @@ func Open(path string) (*Store, error) {
 
 // Close releases the file.
 func (s *Store) Close() error {
+	s.dropPrefetch() // no read of the file outlives Close
 	s.dec.Close()
 	return s.f.Close()
 }
@@ -555,10 +619,26 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 		done chan error
 	}
 	nbuf := workers + 1
+	// Chunks decoded ahead (Prefetch) start the stream: the first jobs
+	// (free hands them out in order) carry their buffers, already done.
+	var pre *prefetch
+	if p := s.takePrefetch(chunks); p != nil {
+		pre = p
+		for _, b := range p.bufs[min(len(p.bufs), nbuf):] {
+			s.putChunk(b) // more than this stream keeps (not so from the operator)
+		}
+		p.bufs, p.errs = p.bufs[:min(len(p.bufs), nbuf)], p.errs[:min(len(p.errs), nbuf)]
+	}
 	all := make([]*job, nbuf)
 	free := make(chan *job, nbuf)
 	for i := range all {
-		all[i] = &job{buf: s.getChunk(), done: make(chan error, 1)}
+		var buf *Chunk
+		if pre != nil && i < len(pre.bufs) {
+			buf = pre.bufs[i]
+		} else {
+			buf = s.getChunk()
+		}
+		all[i] = &job{buf: buf, done: make(chan error, 1)}
 		free <- all[i]
 	}
 	order := make(chan *job, nbuf)
@@ -587,7 +667,7 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 	g.Go(func() error {
 		defer close(order)
 		defer close(work)
-		for _, c := range chunks {
+		for i, c := range chunks {
 			var j *job
 			select {
 			case j = <-free:
@@ -595,10 +675,14 @@ func (s *Store) Stream(ctx context.Context, chunks []int, workers int, fn func(*
 				return ctx.Err()
 			}
 			j.c = c
-			select {
-			case work <- j:
-			case <-ctx.Done():
-				return ctx.Err()
+			if pre != nil && i < len(pre.bufs) {
+				j.done <- pre.errs[i] // decoded ahead, into this job's buffer
+			} else {
+				select {
+				case work <- j:
+				case <-ctx.Done():
+					return ctx.Err()
+				}
 			}
 			select {
 			case order <- j:

@@ -640,6 +640,10 @@ func (op *Operator) applyWith(ctx context.Context, x, y []float64, l int, fast b
 		}
 		return fmt.Errorf("pass over %s: %w", op.st.Path(), err)
 	}
+	// A solver passes again over the same chunks after some serial work:
+	// the next pass's first chunks decode meanwhile, into the buffers this
+	// one just gave back (as many as a pass keeps, so no more memory).
+	op.st.Prefetch(op.chunks[:min(len(op.chunks), op.buffers)])
 	if op.float && math.IsNaN(op.trace) {
 		var t float64
 		for _, v := range ws.trace {
