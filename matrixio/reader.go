@@ -40,6 +40,10 @@ type Store struct {
 	poolMu sync.Mutex
 	pool   []*Chunk  // chunk buffers kept between streams (at most maxPooled)
 	ahead  *prefetch // chunks decoded for the next Stream (Prefetch)
+	closed bool      // Close was called: no more prefetches
+	// decoding counts prefetch goroutines and releases of unused
+	// prefetches still running: Close waits for them.
+	decoding sync.WaitGroup
 }
 
 const maxPooled = 16
@@ -55,13 +59,12 @@ type prefetch struct {
 // Prefetch decodes the given chunks, in order, on one goroutine, into
 // buffers of the store's pool, for the next Stream whose list starts with
 // them: a caller that streams the same chunks pass after pass (the PCA
-// operator) lets the first chunks of the next pass decode while it does
-// serial work between passes, so that pass starts without waiting for
-// them. The buffers are the ones the last Stream returned to the pool; a
-// Stream over other chunks, or Close, gives them back. A new Prefetch
-// replaces an unused one.
+// solver's operator) lets the first chunks of the next pass decode while
+// it does serial work between passes, so that pass starts without waiting
+// for them. The buffers are the ones the last Stream returned to the pool;
+// a Stream over other chunks, a later Prefetch, or Close gives them back.
+// It does nothing after Close.
 func (s *Store) Prefetch(chunks []int) {
-	s.dropPrefetch()
 	p := &prefetch{chunks: append([]int(nil), chunks...), done: make(chan struct{})}
 	p.bufs = make([]*Chunk, len(chunks))
 	p.errs = make([]error, len(chunks))
@@ -69,19 +72,30 @@ func (s *Store) Prefetch(chunks []int) {
 		p.bufs[i] = s.getChunk()
 	}
 	s.poolMu.Lock()
+	if s.closed {
+		s.poolMu.Unlock()
+		for _, b := range p.bufs {
+			s.putChunk(b)
+		}
+		return
+	}
+	old := s.ahead
 	s.ahead = p
+	s.decoding.Add(1)
 	s.poolMu.Unlock()
 	go func() {
+		defer s.decoding.Done()
 		defer close(p.done)
 		for i, c := range p.chunks {
 			p.errs[i] = s.ReadChunk(c, p.bufs[i])
 		}
 	}()
+	s.release(old)
 }
 
-// takePrefetch returns the prefetched chunks when chunks starts with them
-// (after they are decoded), else nil; either way the store holds none
-// after it.
+// takePrefetch returns the prefetched chunks, once decoded, when chunks
+// starts with them, else nil; either way the store holds none after it.
+// One that does not match is given back without waiting for it.
 func (s *Store) takePrefetch(chunks []int) *prefetch {
 	s.poolMu.Lock()
 	p := s.ahead
@@ -90,19 +104,28 @@ func (s *Store) takePrefetch(chunks []int) *prefetch {
 	if p == nil {
 		return nil
 	}
-	<-p.done
 	if len(p.chunks) > len(chunks) || !slices.Equal(p.chunks, chunks[:len(p.chunks)]) {
-		for _, b := range p.bufs {
-			s.putChunk(b)
-		}
+		s.release(p)
 		return nil
 	}
+	<-p.done
 	return p
 }
 
-// dropPrefetch waits for an unused prefetch and gives its buffers back.
-func (s *Store) dropPrefetch() {
-	s.takePrefetch(nil)
+// release gives an unused prefetch's buffers back to the pool once its
+// goroutine is done with them, without waiting for it (Close does).
+func (s *Store) release(p *prefetch) {
+	if p == nil {
+		return
+	}
+	s.decoding.Add(1)
+	go func() {
+		defer s.decoding.Done()
+		<-p.done
+		for _, b := range p.bufs {
+			s.putChunk(b)
+		}
+	}()
 }
 
 func (s *Store) getChunk() *Chunk {
@@ -150,7 +173,13 @@ func Open(path string) (*Store, error) {
 
 // Close releases the file.
 func (s *Store) Close() error {
-	s.dropPrefetch() // no read of the file outlives Close
+	s.poolMu.Lock()
+	s.closed = true
+	p := s.ahead
+	s.ahead = nil
+	s.poolMu.Unlock()
+	s.release(p)
+	s.decoding.Wait() // no read of the file outlives Close
 	s.dec.Close()
 	return s.f.Close()
 }

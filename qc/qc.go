@@ -62,7 +62,8 @@ type Selection struct {
 	// store (from the stored per-sample missing counts).
 	SampleCallRate []float64
 	// HWEP is each marker's HWE exact p-value over the kept samples (NaN
-	// for float stores and markers without calls).
+	// for float stores and markers without calls, and with
+	// Options.FilterHWEOnly where the HWE filter does not read it).
 	HWEP   []float64
 	Report *Report
 }

@@ -133,7 +133,8 @@ func ReadCheckpoint(path, key string) (*State, error) {
 	}
 	r = r[kl:]
 	pass, l, n, hr, hw := get(), get(), get(), get(), get()
-	if n == 0 || l == 0 || n > 1<<32 || l > 1<<16 || hr > 1<<20 || hw > 1<<16 {
+	// One history row of K >= 1 residuals per pass.
+	if n == 0 || l == 0 || n > 1<<32 || l > 1<<16 || pass == 0 || pass > 1<<20 || hr != pass || hw == 0 || hw > 1<<16 {
 		return nil, bad("sizes do not match the file")
 	}
 	need := (2*n*l + l + hr*hw + 2) * 8
@@ -147,6 +148,9 @@ func ReadCheckpoint(path, key string) (*State, error) {
 		need += 8
 		if need <= uint64(len(r)) {
 			w = binary.LittleEndian.Uint64(r[need-8:])
+		}
+		if ver == 3 && w > 1 {
+			return nil, bad("bad refinement field") // version 3 wrote a flag
 		}
 		if ver == 3 && w == 1 {
 			w = l

@@ -76,60 +76,79 @@ func TestResumeGivesSameResult(t *testing.T) {
 	}
 }
 
-// TestResumeAfterRefinement runs a solve whose tolerance is below the fast
-// passes' floor, so it refines the K wanted pairs, finds them not yet
-// converged, makes the other columns' images exact (one pass of width
-// l-K) and goes on with exact passes; resuming from the checkpoint of
-// every pass, those two included, gives the uninterrupted numbers bit for
-// bit (the product's rule of resumable runs; no outside source). The
-// result is also held to the same tolerance as the test of every
-// pair's residual.
+// TestResumeAfterRefinement resumes from the checkpoint of every pass of
+// two solves and must get the uninterrupted numbers bit for bit (the
+// product's rule of resumable runs; no outside source):
+//   - a tolerance below the fast passes' floor: the solve refines the K
+//     wanted pairs, finds them not yet converged, makes the other columns'
+//     images exact (one pass of width L-K) and goes on with exact passes;
+//     its result is held to that tolerance;
+//   - two passes at most: the refinement comes right after the start
+//     pass, on a basis of b columns, not l.
 func TestResumeAfterRefinement(t *testing.T) {
 	st, _ := testCohort(t, 150, 800, 3, 0.05, 0.01, 21, 64)
 	op, err := NewOperator(st, OperatorOptions{Threads: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
-	opt := SolveOptions{K: 2, Seed: 3, Tol: 1e-9, MaxPasses: 20}
-	dir := t.TempDir()
-	var widths []int
-	o1 := opt
-	o1.Checkpoint = func(s *State) error {
-		widths = append(widths, s.refineWidth())
-		return WriteCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", s.Pass)), "k", s)
-	}
-	full, err := Solve(context.Background(), op, o1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	l := full.BlockSize
-	narrow := slices.Index(widths, opt.K)
-	if narrow < 0 || narrow+1 >= len(widths) || widths[narrow+1] != l {
-		t.Fatalf("refinement widths per pass %v: want a refinement of %d columns, then one of all %d", widths, opt.K, l)
-	}
-	if full.StopReason != "converged" {
-		t.Fatalf("stop %s after %d passes", full.StopReason, full.Passes)
-	}
-	for j, r := range full.Residuals {
-		if r > opt.Tol*full.Eigenvalues[j] {
-			t.Errorf("PC%d: residual %g above tol x eigenvalue", j+1, r)
-		}
-	}
-	for p := 1; p < full.Passes; p++ {
-		s, err := ReadCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", p)), "k")
-		if err != nil {
-			t.Fatal(err)
-		}
-		o := opt
-		o.Resume = s
-		res, err := Solve(context.Background(), op, o)
-		if err != nil {
-			t.Fatalf("resume after pass %d: %v", p, err)
-		}
-		if res.Passes != full.Passes || !slices.Equal(res.Eigenvalues, full.Eigenvalues) ||
-			!slices.Equal(res.Vectors.RawMatrix().Data, full.Vectors.RawMatrix().Data) {
-			t.Errorf("resumed after pass %d (refinement width %d): %d passes (want %d) or numbers differ", p, widths[p-1], res.Passes, full.Passes)
-		}
+	for _, tc := range []struct {
+		name string
+		opt  SolveOptions
+	}{
+		{"past the fast floor", SolveOptions{K: 2, Seed: 3, Tol: 1e-9, MaxPasses: 20}},
+		{"refinement after the start pass", SolveOptions{K: 2, Seed: 3, MaxPasses: 2}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			opt := tc.opt
+			dir := t.TempDir()
+			var widths, bases []int
+			o1 := opt
+			o1.Checkpoint = func(s *State) error {
+				widths, bases = append(widths, s.refineWidth()), append(bases, s.L)
+				return WriteCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", s.Pass)), "k", s)
+			}
+			full, err := Solve(context.Background(), op, o1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			l := full.BlockSize
+			narrow := slices.Index(widths, opt.K)
+			switch tc.opt.MaxPasses {
+			case 2:
+				if full.Passes != 2 || widths[1] != opt.K || bases[1] == l {
+					t.Fatalf("passes %d, refinement widths %v, bases %v: want a refinement of %d columns of a basis narrower than %d at pass 2", full.Passes, widths, bases, opt.K, l)
+				}
+			default:
+				if narrow < 0 || narrow+1 >= len(widths) || widths[narrow+1] != l {
+					t.Fatalf("refinement widths per pass %v: want a refinement of %d columns, then one of all %d", widths, opt.K, l)
+				}
+				if full.StopReason != "converged" {
+					t.Fatalf("stop %s after %d passes", full.StopReason, full.Passes)
+				}
+				for j, r := range full.Residuals {
+					if r > opt.Tol*full.Eigenvalues[j] {
+						t.Errorf("PC%d: residual %g above tol x eigenvalue", j+1, r)
+					}
+				}
+			}
+			for p := 1; p <= full.Passes; p++ {
+				s, err := ReadCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", p)), "k")
+				if err != nil {
+					t.Fatal(err)
+				}
+				o := opt
+				o.Resume = s
+				res, err := Solve(context.Background(), op, o)
+				if err != nil {
+					t.Fatalf("resume after pass %d: %v", p, err)
+				}
+				if res.Passes != full.Passes || !slices.Equal(res.Eigenvalues, full.Eigenvalues) ||
+					!slices.Equal(res.Vectors.RawMatrix().Data, full.Vectors.RawMatrix().Data) ||
+					!slices.Equal(res.Basis, full.Basis) {
+					t.Errorf("resumed after pass %d (refinement width %d): %d passes (want %d) or numbers differ", p, widths[p-1], res.Passes, full.Passes)
+				}
+			}
+		})
 	}
 }
 
@@ -182,12 +201,22 @@ func TestCheckpointRefinementBasis(t *testing.T) {
 // 1 meaning a basis of all l columns), made from a version 4 file by
 // dropping or rewriting those fields, and version 4 files with a
 // refinement of fewer columns; it rejects a file whose refinement field
-// disagrees with its size or exceeds l (format defined in checkpoint.go;
-// no outside source).
+// disagrees with its size or exceeds l, and one whose history is not one
+// row per pass (format defined in checkpoint.go; no outside source).
 func TestCheckpointVersions(t *testing.T) {
 	st := &State{Pass: 4, L: 2, N: 3, U: []float64{1, 2, 3, 4, 5, 6}, AU: []float64{6, 5, 4, 3, 2, 1},
-		Theta: []float64{9, 8}, TraceSqEst: 7, PrevCaptured: 17, History: [][]float64{{0.5}}, Fast: true, FastPasses: 3}
+		Theta: []float64{9, 8}, TraceSqEst: 7, PrevCaptured: 17, History: [][]float64{{0.5}, {0.4}, {0.3}, {0.2}}, Fast: true, FastPasses: 3}
 	path := filepath.Join(t.TempDir(), "c.ckpt")
+	// A history of other than one row per pass (a file no solve writes).
+	odd := *st
+	odd.History = odd.History[:1]
+	if err := WriteCheckpoint(path, "k", &odd); err != nil {
+		t.Fatal(err)
+	}
+	oddFile, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
 	if err := WriteCheckpoint(path, "k", st); err != nil {
 		t.Fatal(err)
 	}
@@ -236,6 +265,8 @@ func TestCheckpointVersions(t *testing.T) {
 		{"version 1", remake(1, 24), false, 0, 0, ""},
 		{"refinement field without basis", seal(noBasis), false, 0, 0, "bad refinement field"},
 		{"refinement wider than l", withBasis(4, 3, 3), false, 0, 0, "bad refinement field"},
+		{"version 3 flag of 2", withBasis(3, 2, 2), false, 0, 0, "bad refinement field"},
+		{"one history row for 4 passes", oddFile, false, 0, 0, "sizes do not match"},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {

@@ -77,6 +77,11 @@ type OperatorOptions struct {
 	Buffers       int     // chunk buffers in flight (default streamBuffers)
 	Chunks        []int   // restrict the pass to these chunks (a shard); nil for all
 	Progress      func(done, total int)
+	// Prefetch has the next pass's first chunks decoded (Store.Prefetch)
+	// when a pass ends, for a caller that applies the operator again
+	// after some serial work (the solver of RunPCA). Off, a pass leaves
+	// no decoding behind.
+	Prefetch bool
 }
 
 // Operator applies K = Z^T Z / M for the kept samples and markers of a
@@ -101,6 +106,7 @@ type Operator struct {
 	chunkLo  []int32
 	threads  int
 	buffers  int
+	prefetch bool // OperatorOptions.Prefetch
 	trace    float64
 	mTotal   int // markers of the whole selection (the M in 1/M)
 	float    bool
@@ -155,7 +161,7 @@ func NewOperator(st *matrixio.Store, opt OperatorOptions) (*Operator, error) {
 		// so this asks for the fewest chunks ahead (PlanMemory knows l).
 		opt.Buffers = streamBuffers(opt.Threads, blockMarkers(st, n, 4), st.ChunkMarkers(), st.ChunkBufferBytes())
 	}
-	op := &Operator{st: st, n: n, threads: opt.Threads, buffers: opt.Buffers,
+	op := &Operator{st: st, n: n, threads: opt.Threads, buffers: opt.Buffers, prefetch: opt.Prefetch,
 		float: st.Codec() == matrixio.CodecFloat32, progress: opt.Progress}
 	op.segs = segments(n)
 	op.isKept = make([]bool, n)
@@ -640,10 +646,13 @@ func (op *Operator) applyWith(ctx context.Context, x, y []float64, l int, fast b
 		}
 		return fmt.Errorf("pass over %s: %w", op.st.Path(), err)
 	}
-	// A solver passes again over the same chunks after some serial work:
-	// the next pass's first chunks decode meanwhile, into the buffers this
-	// one just gave back (as many as a pass keeps, so no more memory).
-	op.st.Prefetch(op.chunks[:min(len(op.chunks), op.buffers)])
+	if op.prefetch {
+		// The solver passes again over the same chunks after some serial
+		// work: the next pass's first chunks decode meanwhile, into the
+		// buffers this one just gave back (as many as a pass keeps, so no
+		// more memory).
+		op.st.Prefetch(op.chunks[:min(len(op.chunks), op.buffers)])
+	}
 	if op.float && math.IsNaN(op.trace) {
 		var t float64
 		for _, v := range ws.trace {

@@ -98,8 +98,11 @@ type MemoryPlan struct {
 }
 
 // solverBlocks is the number of N x l float64 blocks alive at once: the
-// solver's U, KU, R, KR and the new U, KU, plus the operator's X and Y in
-// store-sample space.
+// solver's U, KU, R, KR (b <= l wide) and the new U, KU, plus the
+// operator's X and Y in store-sample space (as wide as the pass). The
+// refinement (old and new U, KU, and its K-wide input, image and
+// Rayleigh-Ritz vectors) and the exact pass on the other columns stay
+// within as many.
 const solverBlocks = 8
 
 // runtimeOverhead is memory reserved for the Go runtime, code and small
@@ -206,7 +209,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 		prog = func(done, total int) { opt.Progress(pass+1, done, total) }
 	}
 	op, err := NewOperator(st, OperatorOptions{SampleKept: opt.SampleKept, MarkerKept: opt.MarkerKept,
-		Counts: opt.Counts, Scaling: opt.Scaling, Threads: opt.Threads, Buffers: plan.Buffers, Progress: prog})
+		Counts: opt.Counts, Scaling: opt.Scaling, Threads: opt.Threads, Buffers: plan.Buffers, Progress: prog, Prefetch: true})
 	if err != nil {
 		return nil, nil, err
 	}

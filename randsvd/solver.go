@@ -89,7 +89,9 @@ type Result struct {
 	StopReason  string      // "converged", "bulk-variance-stable" or "max-passes"
 	// When the last pass was a refinement pass: Vectors = Basis Rotation,
 	// Basis (N x w, row-major) its input and Rotation w x K (signs
-	// included), w = K or l (State.RefineIn). Nil otherwise.
+	// included), w = K, or the basis width (l, or b right after the start
+	// pass) after an exact pass on the other columns (State.RefineIn). Nil
+	// otherwise.
 	Basis    []float64
 	Rotation *mat.Dense
 }
@@ -172,8 +174,9 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	var st *State
 	if opt.Resume != nil {
 		st = opt.Resume
-		// The basis is l wide, or b after the start pass (older files: l).
-		if st.N != n || st.L != l && (st.Pass != 1 || st.L != b) || len(st.U) != n*st.L || len(st.AU) != n*st.L || len(st.Theta) != st.L {
+		// The basis is l wide, or b until the first extension pass (after
+		// the start pass, and a refinement or exact tail right after it).
+		if st.N != n || st.L != l && st.L != b || len(st.U) != n*st.L || len(st.AU) != n*st.L || len(st.Theta) != st.L {
 			return nil, errors.New("solve: checkpoint does not match this problem (samples or block size differ)")
 		}
 		if w := st.refineWidth(); st.RefineIn != nil && w != opt.K && w != st.L {
@@ -261,10 +264,10 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			// Refinement: one exact pass on the K wanted Ritz vectors and
 			// Rayleigh-Ritz on them give float64 Ritz values, vectors and
 			// residuals for those pairs; the stopping tests, which read
-			// only them, then run again, strictly. The other l-K columns
-			// keep their fast images until a later pass needs them
-			// (exactTail): refining the wanted pairs only costs an exact
-			// pass of width K, not l.
+			// only them, then run again, strictly. The other columns keep
+			// their fast images until a later pass needs them (an exact
+			// pass on them, below): refining the wanted pairs only costs
+			// an exact pass of width K, not l.
 			if err := ctx.Err(); err != nil {
 				return nil, err
 			}
@@ -326,11 +329,12 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			if err := a.Apply(ctx, tail, yt, c-w); err != nil {
 				return nil, err
 			}
-			full := mat.DenseCopyOf(au)
-			full.Slice(0, n, w, c).(*mat.Dense).Copy(mat.NewDense(n, c-w, yt))
+			// Rayleigh-Ritz on [U_w U_tail] with images [KU_w, K U_tail]:
+			// views of U and KU, no copy.
 			in := u.RawMatrix().Data
 			var rot *mat.Dense
-			u, au, theta, rot = rayleighRitz([]*mat.Dense{u}, []*mat.Dense{full}, c, th)
+			u, au, theta, rot = rayleighRitz([]*mat.Dense{u.Slice(0, n, 0, w).(*mat.Dense), u.Slice(0, n, w, c).(*mat.Dense)},
+				[]*mat.Dense{au.Slice(0, n, 0, w).(*mat.Dense), mat.NewDense(n, c-w, yt)}, c, th)
 			st = &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
 				PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
@@ -408,6 +412,12 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	return res, nil
 }
 
+// SolverScheme names how Solve iterates (blocks of blockWidth vectors, a
+// refinement of the K wanted pairs), for callers that key checkpoints: a
+// state saved by another scheme resumes into numbers no uninterrupted run
+// of this one gives.
+const SolverScheme = "krylov-b/1"
+
 // blockWidth is the width b of every pass's block: the Gaussian start,
 // then the residuals of the top b Ritz pairs; b = max(K, l/2) rounded up
 // to a multiple of 4 (the kernels pad rows to one, so those columns cost
@@ -422,7 +432,8 @@ func blockWidth(k, l int) int {
 }
 
 // refineWidth is the number of columns the refinement pass that made st
-// applied K to (K, or l after exactTail's pass): RefineIn is N x w and
+// applied K to (K, or the basis width after the exact pass on the other
+// columns that precedes further passes): RefineIn is N x w and
 // Rot w x w. 0 when st is not a refinement's state.
 func (st *State) refineWidth() int {
 	if st.RefineIn == nil || st.N == 0 || len(st.RefineIn)%st.N != 0 {
@@ -646,87 +657,97 @@ type orthOpts struct {
 
 // orthonormalizeWith orthonormalizes the columns of q in place by
 // Gram-Schmidt with one reorthogonalization (Giraud et al. 2005: "twice is
-// enough"): against o.against first, when given, by whole blocks (two
-// products with it, block classical Gram-Schmidt twice), then within q by
-// modified Gram-Schmidt, twice. When aq (the image K q) is given, the same
-// column operations are applied to it, so it stays K q. A column that
-// vanishes (below 1e-10 of its norm before) is replaced from o.refill and
-// projected out column by column.
+// enough"). Against o.against, when given, it is block classical
+// Gram-Schmidt twice (BCGS2, Barlow & Smoktunowicz 2013, Numer Math
+// 123:395): each round projects q off the whole basis with two products
+// and then orthonormalizes q's columns among themselves by modified
+// Gram-Schmidt, so the second round also removes what the first round's
+// own Gram-Schmidt put back along the basis. Without a basis it is modified
+// Gram-Schmidt with each projection done twice. When aq (the image K q)
+// is given, the same column operations are applied to it, so it stays K q.
+// A column that vanishes (below 1e-10 of its norm before) is replaced
+// from o.refill and projected out column by column.
 func orthonormalizeWith(q, aq *mat.Dense, o *orthOpts) error {
-	n, l := q.Dims()
+	_, l := q.Dims()
 	norm0 := make([]float64, l)
 	for j := range norm0 {
 		norm0[j] = mat.Norm(q.ColView(j), 2)
 	}
 	var against blas64.General
+	var coef blas64.General
+	rounds, inner := 1, 2
 	if o != nil && o.against != nil {
 		against = o.against.RawMatrix()
-		_, c := o.against.Dims()
-		coef := blas64.General{Rows: c, Cols: l, Stride: l, Data: make([]float64, c*l)}
-		qm := q.RawMatrix()
-		for pass := 0; pass < 2; pass++ {
-			// coef = A^T q; q -= A coef (no N x l temporary).
-			blas64.Gemm(blas.Trans, blas.NoTrans, 1, against, qm, 0, coef)
-			blas64.Gemm(blas.NoTrans, blas.NoTrans, -1, against, coef, 1, qm)
-		}
+		coef = blas64.General{Rows: against.Cols, Cols: l, Stride: l, Data: make([]float64, against.Cols*l)}
+		rounds, inner = 2, 1
 	}
 	cols := make([][]float64, l)
-	for j := range cols {
-		cols[j] = mat.Col(nil, j, q)
-	}
 	var acols [][]float64
 	if aq != nil {
 		acols = make([][]float64, l)
-		for j := range acols {
-			acols[j] = mat.Col(nil, j, aq)
-		}
 	}
-	for j := 0; j < l; j++ {
-		v := cols[j]
-		for attempt := 0; ; attempt++ {
-			for pass := 0; pass < 2; pass++ {
-				if attempt > 0 {
-					// A refilled column still has its part along A.
-					for c := 0; c < against.Cols; c++ {
-						p := mat.Col(nil, c, o.against)
-						floats.AddScaled(v, -floats.Dot(p, v), p)
+	for round := 0; round < rounds; round++ {
+		if against.Cols > 0 {
+			// coef = A^T q; q -= A coef (no N x l temporary).
+			qm := q.RawMatrix()
+			blas64.Gemm(blas.Trans, blas.NoTrans, 1, against, qm, 0, coef)
+			blas64.Gemm(blas.NoTrans, blas.NoTrans, -1, against, coef, 1, qm)
+		}
+		for j := range cols {
+			cols[j] = mat.Col(cols[j], j, q)
+			if aq != nil {
+				acols[j] = mat.Col(acols[j], j, aq)
+			}
+		}
+		for j := 0; j < l; j++ {
+			v := cols[j]
+			for attempt := 0; ; attempt++ {
+				for pass := 0; pass < max(inner, min(attempt, 1)*2); pass++ {
+					if attempt > 0 {
+						// A refilled column still has its part along A.
+						for c := 0; c < against.Cols; c++ {
+							p := mat.Col(nil, c, o.against)
+							floats.AddScaled(v, -floats.Dot(p, v), p)
+						}
+					}
+					for i := 0; i < j; i++ {
+						c := floats.Dot(cols[i], v)
+						floats.AddScaled(v, -c, cols[i])
+						if acols != nil {
+							floats.AddScaled(acols[j], -c, acols[i])
+						}
 					}
 				}
-				for i := 0; i < j; i++ {
-					c := floats.Dot(cols[i], v)
-					floats.AddScaled(v, -c, cols[i])
+				nv := math.Sqrt(floats.Dot(v, v))
+				if nv > 1e-10*norm0[j] && nv > 1e-300 {
+					floats.Scale(1/nv, v)
 					if acols != nil {
-						floats.AddScaled(acols[j], -c, acols[i])
+						floats.Scale(1/nv, acols[j])
 					}
+					if round == 0 {
+						norm0[j] = 1 // the second round starts from unit columns
+					}
+					break
 				}
-			}
-			nv := math.Sqrt(floats.Dot(v, v))
-			if nv > 1e-10*norm0[j] && nv > 1e-300 {
-				floats.Scale(1/nv, v)
 				if acols != nil {
-					floats.Scale(1/nv, acols[j])
+					return errors.New("start block is rank deficient")
 				}
-				break
+				if o == nil || o.refill == nil || attempt > 3 {
+					return errors.New("block became rank deficient")
+				}
+				for i := range v {
+					v[i] = o.refill.NormFloat64()
+				}
+				norm0[j] = math.Sqrt(floats.Dot(v, v))
 			}
-			if acols != nil {
-				return errors.New("start block is rank deficient")
+		}
+		for j := 0; j < l; j++ {
+			q.SetCol(j, cols[j])
+			if aq != nil {
+				aq.SetCol(j, acols[j])
 			}
-			if o == nil || o.refill == nil || attempt > 3 {
-				return errors.New("block became rank deficient")
-			}
-			for i := range v {
-				v[i] = o.refill.NormFloat64()
-			}
-			norm0[j] = math.Sqrt(floats.Dot(v, v))
 		}
 	}
-	for j := 0; j < l; j++ {
-		q.SetCol(j, cols[j])
-		if aq != nil {
-			aq.SetCol(j, acols[j])
-		}
-	}
-	_ = n
 	return nil
 }
 

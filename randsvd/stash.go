@@ -127,7 +127,8 @@ func (s *stash) discard() {
 }
 
 // usable says whether the stash holds, for op, Z times the basis of the
-// solver's last pass, l columns (Solve clears pass otherwise).
+// solver's last pass, l columns: the refinement's width, the rows of
+// Result.Rotation (Solve clears pass otherwise).
 func (s *stash) usable(op *Operator, l int) bool {
 	return s != nil && s.f != nil && s.err == nil && s.op == op && s.pass > 0 && s.l == l && s.rows == op.NumKeptMarkers()
 }

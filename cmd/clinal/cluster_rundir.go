@@ -44,7 +44,11 @@ import (
 )
 
 const (
-	clusterFormat  = "clinal-cluster-run/1"
+	// clusterFormat 2: the solver's passes apply K to blocks of b vectors
+	// and refine the K wanted pairs only (checkpoint version 4); a run
+	// planned for format 1 would resume into other numbers than either
+	// solver gives uninterrupted, so it is refused (plan it again).
+	clusterFormat  = "clinal-cluster-run/2"
 	manifestName   = "manifest.json"
 	selectionName  = "selection.bin"
 	qcReportName   = "qc-report.json"

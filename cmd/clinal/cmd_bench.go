@@ -207,7 +207,7 @@ func doPredict(ctx context.Context, w io.Writer, o *benchOptions) error {
 	fmt.Fprintln(w, "assumptions:")
 	fmt.Fprintf(w, "  threads      %d (wall time scales as 1/threads; memory counts the plan's chunk buffers: threads+1, and up to two more for decoding ahead)\n", o.threads)
 	fmt.Fprintf(w, "  passes       %d (%s)\n", passes, passNote)
-	fmt.Fprintf(w, "  k, l         k=%d, block l=%d = k + oversample (a pass costs in proportion to N*M*l)\n", o.k, f.BlockSize)
+	fmt.Fprintf(w, "  k, l         k=%d, block l=%d = k + oversample (a pass applies K to b = max(k, l/2) vectors, rounded up to 4; its cost, as fitted, grows with N*M and with l)\n", o.k, f.BlockSize)
 	fmt.Fprintf(w, "  run          clinal pca %s, default QC, loadings written, a geno2 store with default chunks\n", strings.Join(m.PCAFlags, " "))
 	fmt.Fprintf(w, "  machine      like the calibration one: %s, %d CPUs, %s, %s\n", m.Machine.CPU, m.Machine.CPUs, m.Machine.Arch, m.Created)
 	fmt.Fprintf(w, "  scaling      cost per genotype as measured at the calibration sizes, where the N x l blocks took at most %s;\n"+

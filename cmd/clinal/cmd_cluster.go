@@ -238,6 +238,8 @@ func timeOneChunk(ctx context.Context, w *shardWorker) (time.Duration, bool) {
 			if err != nil || op.NumKeptMarkers() == 0 {
 				continue
 			}
+			// At width l, the widest of a solve's passes (the iteration's
+			// blocks are b <= l, the refinement K): a conservative time.
 			n, l := op.Dim(), m.BlockSize
 			r := rand.New(rand.NewPCG(1, 2))
 			x := make([]float64, n*l)

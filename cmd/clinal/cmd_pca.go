@@ -356,7 +356,10 @@ func (c *checkpointWriter) wait() error {
 // iteration (not tol or max-passes, which only decide when to stop).
 func checkpointKey(st *matrixio.Store, sel *qc.Selection, o *pcaOptions) string {
 	h := sha256.New()
-	fmt.Fprintf(h, "%s|k=%d|over=%d|seed=%d|scaling=%s|exact=%v|", st.Fingerprint(), o.k, o.oversample, o.seed, o.scaling, o.exact)
+	// The solver's scheme too: a checkpoint of another scheme (blocks of l
+	// vectors, before checkpoint version 4) would resume into numbers no
+	// uninterrupted run gives, so it is ignored.
+	fmt.Fprintf(h, "%s|k=%d|over=%d|seed=%d|scaling=%s|exact=%v|solver=%s|", st.Fingerprint(), o.k, o.oversample, o.seed, o.scaling, o.exact, randsvd.SolverScheme)
 	for _, m := range [][]bool{sel.SampleKept, sel.MarkerKept} {
 		b := make([]byte, len(m))
 		for i, v := range m {
