@@ -172,6 +172,27 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		return a.Apply
 	}
 	var st *State
+	// done makes s the state and reports the completed pass: the Pass
+	// callback, then the checkpoint.
+	done := func(s *State) error {
+		st = s
+		if opt.Pass != nil {
+			opt.Pass(s.Pass, maxOf(s.History[len(s.History)-1]))
+		}
+		if opt.Checkpoint != nil {
+			return opt.Checkpoint(s)
+		}
+		return nil
+	}
+	// refined is the state after an exact pass that refines the basis:
+	// the refinement of the wanted pairs, or the exact pass on the other
+	// columns. in is the basis it applied K to and rot the Rayleigh-Ritz
+	// rotation, so that the first columns of u are in rot.
+	refined := func(u, au *mat.Dense, theta []float64, captured float64, in []float64, rot *mat.Dense) *State {
+		return &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
+			PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
+	}
 	if opt.Resume != nil {
 		st = opt.Resume
 		// The basis is l wide, or b until the first extension pass (after
@@ -205,19 +226,13 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			return nil, fmt.Errorf("solve: start block: %w", err)
 		}
 		u, au, theta, _ := rayleighRitz([]*mat.Dense{q}, []*mat.Dense{aq}, b, th)
-		st = &State{Pass: 1, L: b, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(b), PrevCaptured: math.NaN(),
-			Fast: fast}
+		first := &State{Pass: 1, L: b, N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data, Theta: theta, TraceSqEst: ss / float64(b), PrevCaptured: math.NaN(),
+			Fast: fast, History: [][]float64{relResiduals(u, au, theta, opt.K)}}
 		if fast {
-			st.FastPasses = 1
+			first.FastPasses = 1
 		}
-		st.History = append(st.History, relResiduals(u, au, theta, opt.K))
-		if opt.Pass != nil {
-			opt.Pass(1, maxOf(st.History[0]))
-		}
-		if opt.Checkpoint != nil {
-			if err := opt.Checkpoint(st); err != nil {
-				return nil, err
-			}
+		if err := done(first); err != nil {
+			return nil, err
 		}
 	}
 	u := mat.NewDense(n, st.L, st.U)
@@ -294,17 +309,9 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			if capture {
 				opt.stash.pass = st.Pass + 1
 			}
-			st = &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
-				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
-				PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
 			prevVar = captured
-			if opt.Pass != nil {
-				opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
-			}
-			if opt.Checkpoint != nil {
-				if err := opt.Checkpoint(st); err != nil {
-					return nil, err
-				}
+			if err := done(refined(u, au, theta, captured, in, rot)); err != nil {
+				return nil, err
 			}
 			continue
 		}
@@ -335,17 +342,9 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			var rot *mat.Dense
 			u, au, theta, rot = rayleighRitz([]*mat.Dense{u.Slice(0, n, 0, w).(*mat.Dense), u.Slice(0, n, w, c).(*mat.Dense)},
 				[]*mat.Dense{au.Slice(0, n, 0, w).(*mat.Dense), mat.NewDense(n, c-w, yt)}, c, th)
-			st = &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
-				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
-				PrevCaptured: captured, FastPasses: st.FastPasses, RefineIn: in, Rot: rot.RawMatrix().Data}
 			prevVar = captured
-			if opt.Pass != nil {
-				opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
-			}
-			if opt.Checkpoint != nil {
-				if err := opt.Checkpoint(st); err != nil {
-					return nil, err
-				}
+			if err := done(refined(u, au, theta, captured, in, rot)); err != nil {
+				return nil, err
 			}
 			continue
 		}
@@ -379,19 +378,14 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		}
 		arm := mat.NewDense(n, b, ar)
 		u, au, theta, _ = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l, th)
-		st = &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+		next := &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
 			PrevCaptured: captured, Fast: st.Fast, FastPasses: st.FastPasses}
-		if st.Fast {
-			st.FastPasses++
+		if next.Fast {
+			next.FastPasses++
 		}
-		if opt.Pass != nil {
-			opt.Pass(st.Pass, maxOf(st.History[len(st.History)-1]))
-		}
-		if opt.Checkpoint != nil {
-			if err := opt.Checkpoint(st); err != nil {
-				return nil, err
-			}
+		if err := done(next); err != nil {
+			return nil, err
 		}
 	}
 	res, signs := finish(u, au, theta, st, opt)
