@@ -116,11 +116,13 @@ type State struct {
 	Fast       bool
 	FastPasses int
 	// After a refinement pass (the exact pass that ends the fast ones):
-	// its input RefineIn (N x w) and the Rayleigh-Ritz rotation Rot (w x w,
-	// row-major) with the first w columns of U = RefineIn Rot. w is K (the
-	// wanted pairs; columns K.. of AU are then still fast images), or l
-	// after the exact pass on those other columns that precedes further
-	// passes. Marker loadings are computed from them (Loadings), so a
+	// the basis RefineIn (N x w) whose exact images entered its
+	// Rayleigh-Ritz and the rotation Rot (w x w, row-major), with the first
+	// w columns of U = RefineIn Rot. w is K after the refinement of the
+	// wanted pairs (columns K.. of AU are then still fast images), or L (l,
+	// or b right after the start pass) after the exact pass on those other
+	// columns, which runs whenever the tests ask for more passes after a
+	// refinement. Marker loadings are computed from them (Loadings), so a
 	// resumed run gives the same ones. Nil after other passes.
 	RefineIn, Rot []float64
 }
@@ -130,13 +132,17 @@ type State struct {
 // 53:217), then at each pass the current Ritz vectors U (at most l) are
 // extended by one Krylov block (the residual block R = KU - U Theta of the
 // top b pairs, orthonormalized against U; b = blockWidth(K, l)) and
-// Rayleigh-Ritz on span[U, R] keeps the best l pairs. One pass is one
-// application of K to b vectors; the space grows like a block Krylov space
+// Rayleigh-Ritz on span[U, R] keeps the best l pairs. One pass of the
+// iteration is one application of K to b vectors; the space grows like a block Krylov space
 // (Musco & Musco 2015, NeurIPS) with a thick restart that keeps memory at a
 // fixed number of N x l blocks. The stop is residual based: every wanted
 // pair has ||K u - lambda u|| <= Tol * lambda, or MaxPasses. The first pass
 // applies K to a Gaussian block of b vectors, which also gives the
-// Hutchinson (1989) estimate of trace(K^2) = E||K w||^2.
+// Hutchinson (1989) estimate of trace(K^2) = E||K w||^2. Fast passes end
+// with a refinement: an exact pass on the K wanted Ritz vectors and
+// Rayleigh-Ritz on them. When the tests still ask for more passes, an
+// exact pass on the other columns and Rayleigh-Ritz on all of them come
+// before exact extension passes.
 func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	n := a.Dim()
 	if opt.K < 1 {
@@ -186,8 +192,8 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	}
 	// refined is the state after an exact pass that refines the basis:
 	// the refinement of the wanted pairs, or the exact pass on the other
-	// columns. in is the basis it applied K to and rot the Rayleigh-Ritz
-	// rotation, so that the first columns of u are in rot.
+	// columns. in is the basis whose exact images entered the
+	// Rayleigh-Ritz and rot its rotation: the first columns of u are in rot.
 	refined := func(u, au *mat.Dense, theta []float64, captured float64, in []float64, rot *mat.Dense) *State {
 		return &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
@@ -412,23 +418,25 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 // of this one gives.
 const SolverScheme = "krylov-b/1"
 
-// blockWidth is the width b of every pass's block: the Gaussian start,
-// then the residuals of the top b Ritz pairs; b = max(K, l/2) rounded up
+// blockWidth is the width b of every block of the iteration: the Gaussian
+// start, then the residuals of the top b Ritz pairs (the refinement and the
+// exact pass on the other columns apply K to K and L-K vectors); b = max(K, l/2) rounded up
 // to a multiple of 4 (the kernels pad rows to one, so those columns cost
 // nothing), at most l. The basis grows to l and stays l wide (thick
 // restart), so the pairs past b still gain from every block, but a pass
 // applies K to b vectors, not l: a fast pass at 5,000 samples took 0.145 s
 // at width 12 against 0.175 s at 20 (benchmarks/kernels passbench). With
 // blocks of l, the passes to a stop and the captured variance were about
-// the same on the benchmark cohorts (DEVELOPERS.md, "The Krylov block").
+// the same on the benchmark and simulated cohorts; the HapMap fixture took
+// one to three more passes in 7 of 15 runs (DEVELOPERS.md, "The Krylov
+// block").
 func blockWidth(k, l int) int {
 	return min(l, (max(k, (l+1)/2)+3)&^3)
 }
 
-// refineWidth is the number of columns the refinement pass that made st
-// applied K to (K, or the basis width after the exact pass on the other
-// columns that precedes further passes): RefineIn is N x w and
-// Rot w x w. 0 when st is not a refinement's state.
+// refineWidth is the width w of st.RefineIn (N x w; Rot is w x w): K
+// after the refinement of the wanted pairs, or L after the exact pass on
+// the other columns. 0 when st is not such a pass's state.
 func (st *State) refineWidth() int {
 	if st.RefineIn == nil || st.N == 0 || len(st.RefineIn)%st.N != 0 {
 		return 0
