@@ -60,7 +60,8 @@ type PCAResult struct {
 	Passes      int
 	FastPasses  int // passes with float32 tables (before the exact ones)
 	StopReason  string
-	BlockSize   int
+	BlockSize   int // l, the solver's basis
+	KrylovBlock int // b, the vectors each pass of the iteration applies K to
 	History     [][]float64
 	Dropped     DroppedMarkers
 	MPEdge      float64 // (trace/N) (1 + sqrt(N/M))^2
@@ -244,7 +245,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 	}
 	out := &PCAResult{Samples: op.KeptSamples(), Eigenvalues: res.Eigenvalues, Residuals: res.Residuals,
 		Converged: res.Converged, Scores: res.Vectors, Trace: op.Trace(), TraceSqEst: res.TraceSqEst,
-		Markers: op.Markers(), Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, BlockSize: res.BlockSize,
+		Markers: op.Markers(), Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, BlockSize: res.BlockSize, KrylovBlock: res.KrylovBlock,
 		History: res.History, Dropped: op.Dropped(), Plan: plan, Basis: res.Basis, Rotation: res.Rotation, stash: sh}
 	out.MPEdge = MPUpperEdgeScaled(out.Trace, op.Dim(), op.Markers())
 	if err := tracyWidom(ctx, op, opt, out); err != nil {

@@ -85,7 +85,8 @@ type Result struct {
 	FastPasses  int         // of which fast (FastApplier), all before the exact ones
 	History     [][]float64 // relative residuals of the wanted pairs after each RR step
 	TraceSqEst  float64     // Hutchinson estimate of trace(K^2) from the first pass
-	BlockSize   int         // l = K + oversampling
+	BlockSize   int         // l = K + oversampling: the basis
+	KrylovBlock int         // b: the vectors each pass of the iteration applies K to (blockWidth)
 	StopReason  string      // "converged", "bulk-variance-stable" or "max-passes"
 	// When the last pass was a refinement pass: Vectors = Basis Rotation,
 	// Basis (N x w, row-major) its input and Rotation w x K (signs
@@ -395,7 +396,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		}
 	}
 	res, signs := finish(u, au, theta, st, opt)
-	res.StopReason, res.BlockSize = reason, l
+	res.StopReason, res.BlockSize, res.KrylovBlock = reason, l, b
 	if w := st.refineWidth(); w >= opt.K {
 		// Fold the sign convention into the rotation: Vectors = Basis Rotation.
 		res.Basis = st.RefineIn

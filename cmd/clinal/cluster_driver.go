@@ -378,7 +378,7 @@ func runDriver(ctx context.Context, e *env, opt *driverOptions) (*clusterOutcome
 	}
 	pr := &randsvd.PCAResult{Samples: op.KeptSamples(), Eigenvalues: res.Eigenvalues, Residuals: res.Residuals,
 		Converged: res.Converged, Scores: res.Vectors, Trace: trace, TraceSqEst: res.TraceSqEst,
-		Markers: op.Markers(), Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, BlockSize: res.BlockSize,
+		Markers: op.Markers(), Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, BlockSize: res.BlockSize, KrylovBlock: res.KrylovBlock,
 		History: res.History, Dropped: op.Dropped(), Plan: plan, Basis: res.Basis, Rotation: res.Rotation}
 	pr.MPEdge = randsvd.MPUpperEdgeScaled(pr.Trace, op.Dim(), op.Markers())
 	ph.start("tracy-widom")

@@ -571,6 +571,7 @@ type pcaReportJSON struct {
 	MarkersUsed   int                `json:"markers_used"`
 	K             int                `json:"k"`
 	BlockSize     int                `json:"block_size"`
+	KrylovBlock   int                `json:"krylov_block"`
 	Seed          uint64             `json:"seed"`
 	Threads       int                `json:"threads"`
 	Kernels       string             `json:"kernels"`
@@ -673,7 +674,7 @@ func buildReport(st *matrixio.Store, o *pcaOptions, res *randsvd.PCAResult, sel 
 	r := &pcaReportJSON{Version: version, Command: "pca",
 		Input: reportInput{Path: st.Path(), Bytes: st.Size(), Fingerprint: st.Fingerprint(),
 			Samples: st.NumSamples(), Markers: st.NumMarkers(), Codec: string(st.Codec())},
-		SamplesUsed: len(res.Samples), MarkersUsed: res.Markers, K: o.k, BlockSize: res.BlockSize,
+		SamplesUsed: len(res.Samples), MarkersUsed: res.Markers, K: o.k, BlockSize: res.BlockSize, KrylovBlock: res.KrylovBlock,
 		Seed: o.seed, Threads: o.threads, Kernels: randsvd.Kernels(), Tol: o.tol, MaxPasses: o.maxPasses, Scaling: o.scaling,
 		Passes: res.Passes, FastPasses: res.FastPasses, StopReason: res.StopReason, Trace: res.Trace, TraceSqEst: res.TraceSqEst,
 		MPEdge: res.MPEdge, Eigenvalues: res.Eigenvalues, Residuals: res.Residuals, Converged: res.Converged,

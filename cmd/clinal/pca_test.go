@@ -128,6 +128,12 @@ func TestPCACommandOutputs(t *testing.T) {
 				t.Errorf("report.json lacks %q", key)
 			}
 		}
+		// -k 4: a basis of l = 4 + 10 (the default oversampling) and
+		// passes of b = max(4, 14/2) rounded up to 4 = 8 vectors
+		// (randsvd.blockWidth's rule, the project's own).
+		if rep["block_size"] != 14.0 || rep["krylov_block"] != 8.0 {
+			t.Errorf("report.json block_size %v, krylov_block %v, want 14 and 8", rep["block_size"], rep["krylov_block"])
+		}
 		if k := rep["kernels"]; k != randsvd.Kernels() || (k != "avx512" && k != "avx2" && k != "portable") {
 			t.Errorf("report.json kernels %v, this process runs %q", k, randsvd.Kernels())
 		}
