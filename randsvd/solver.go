@@ -421,9 +421,9 @@ const SolverScheme = "krylov-b/1"
 
 // blockWidth is the width b of every block of the iteration: the Gaussian
 // start, then the residuals of the top b Ritz pairs (the refinement and the
-// exact pass on the other columns apply K to K and L-K vectors); b = max(K, l/2) rounded up
-// to a multiple of 4 (the kernels pad rows to one, so those columns cost
-// nothing), at most l. The basis grows to l and stays l wide (thick
+// exact pass on the other columns apply K to K and L-K vectors); b =
+// max(K, l/2) rounded up to a multiple of 4 (the kernels pad rows to one,
+// so those columns cost nothing), at most l. The basis grows to l and stays l wide (thick
 // restart), so the pairs past b still gain from every block, but a pass
 // applies K to b vectors, not l: a fast pass at 5,000 samples took 0.145 s
 // at width 12 against 0.175 s at 20 (benchmarks/kernels passbench). With
