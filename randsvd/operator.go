@@ -352,7 +352,7 @@ type workspace struct {
 	trace     []float64 // float stores: per-marker sum of squares
 	tabs      [][]float64
 	tbuf      [][]byte    // per thread: a tile of the block transposed (transposeTile)
-	tspare    [][]byte    // a workspace of another width's tbuf, for secondBuffers
+	tspare    [][]byte    // the tiles of the last width, for secondBuffers
 	toffs     []int32     // each sample's offset in a transposed row (transposedOffset)
 	tstride   int         // bytes per transposed row (one group of markers)
 	jobs2     []int       // second-product sample jobs: segment boundaries (secondJob)
@@ -458,17 +458,17 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 	fast = fast && !op.float
 	lp := (l + 3) &^ 3 // whole float64 vectors (and half float32 ones)
 	ws := op.ws
-	if ws == nil || ws.l != l {
+	if ws == nil {
+		ws = &workspace{}
+		op.ws = ws
+	}
+	if ws.l != l {
 		// One row layout for exact and fast passes: rows of dropped samples
 		// and padding columns stay zero. The solver applies K to a few
-		// widths (l, its Krylov block, K): a workspace of another width
-		// hands its buffers on, so a new width allocates only what grows
-		// and the old buffers are not left to the collector.
-		nw := &workspace{l: l, lp: lp}
-		if ws != nil {
-			nw.adopt(ws)
-		}
-		ws = nw
+		// widths (l, its Krylov block, K): the workspace keeps its buffers
+		// across widths, growing what a wider one needs (the per-block
+		// ones grow where they are used), and lays out the rows anew.
+		ws.l, ws.lp = l, lp
 		ws.x = grow(ws.x, op.n*lp)
 		clear(ws.x)
 		ws.tot, ws.btot = grow(ws.tot, lp), grow(ws.btot, lp)
@@ -482,7 +482,10 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		for t := range ws.tabs {
 			ws.tabs[t] = grow(ws.tabs[t], tileGroups(lp)*256*lp)
 		}
-		op.ws = ws
+		ws.block, ws.bsels, ws.csels = ws.block[:0], ws.bsels[:0], ws.csels[:0]
+		// The second product's buffers depend on the width: secondBuffers
+		// sets them up again, from the old tiles.
+		ws.tspare, ws.tbuf = ws.tbuf, nil
 	}
 	ws.fast = fast
 	if fast && ws.x32 == nil {
@@ -520,21 +523,6 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		}
 	}
 	return ws
-}
-
-// adopt takes over old's buffers (a workspace of another width): the
-// sizes depend on the width, so every user grows them to its own
-// (newWorkspace, secondBuffers and the block functions do).
-func (ws *workspace) adopt(old *workspace) {
-	ws.x, ws.x32, ws.tabs, ws.tabs32, ws.y = old.x, old.x32, old.tabs, old.tabs32, old.y
-	ws.tot, ws.btot = old.tot, old.btot
-	ws.w, ws.wpp, ws.mwpp, ws.wpp32, ws.mwpp32 = old.w, old.wpp, old.mwpp, old.wpp32, old.mwpp32
-	ws.scratch, ws.scratch32, ws.part, ws.miss = old.scratch, old.scratch32, old.part, old.miss
-	ws.z, ws.ss, ws.trace = old.z, old.ss, old.trace
-	ws.block, ws.bsels, ws.csels, ws.offs = old.block[:0], old.bsels[:0], old.csels[:0], old.offs
-	// The second product's buffers are set up again for the new width
-	// (secondBuffers), from these.
-	ws.ypart, ws.tspare = old.ypart, old.tbuf
 }
 
 // secondBuffers sets up the second product of a 2-bit store's passes:

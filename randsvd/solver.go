@@ -705,7 +705,11 @@ func orthonormalizeWith(q, aq *mat.Dense, o *orthOpts) error {
 		for j := 0; j < l; j++ {
 			v := cols[j]
 			for attempt := 0; ; attempt++ {
-				for pass := 0; pass < max(inner, min(attempt, 1)*2); pass++ {
+				passes := inner
+				if attempt > 0 {
+					passes = 2 // a refilled column, against A and the others
+				}
+				for pass := 0; pass < passes; pass++ {
 					if attempt > 0 {
 						// A refilled column still has its part along A.
 						for c := 0; c < against.Cols; c++ {
@@ -752,33 +756,4 @@ func orthonormalizeWith(q, aq *mat.Dense, o *orthOpts) error {
 		}
 	}
 	return nil
-}
-
-func dot(a, b []float64) float64 {
-	b = b[:len(a)]
-	var s0, s1, s2, s3 float64
-	i := 0
-	for ; i+4 <= len(a); i += 4 {
-		s0 += a[i] * b[i]
-		s1 += a[i+1] * b[i+1]
-		s2 += a[i+2] * b[i+2]
-		s3 += a[i+3] * b[i+3]
-	}
-	for ; i < len(a); i++ {
-		s0 += a[i] * b[i]
-	}
-	return (s0 + s1) + (s2 + s3)
-}
-
-func axpy(c float64, x, y []float64) {
-	x = x[:len(y)]
-	for i := range y {
-		y[i] += c * x[i]
-	}
-}
-
-func scale(c float64, x []float64) {
-	for i := range x {
-		x[i] *= c
-	}
 }

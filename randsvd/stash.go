@@ -13,9 +13,10 @@ import (
 
 // A stash keeps, on disk, the marker-side products W = Z U that the
 // refinement pass of Solve computes anyway (the first half of an Operator
-// pass, one row per kept marker of the K values of the wanted pairs' U). The final sample vectors are
-// U times a small rotation R (Rayleigh-Ritz on span U, then signs:
-// Result.Basis and Rotation), so the loadings Z u_k = (Z U) R_k follow
+// pass, one row per kept marker of the K values of the wanted pairs' U).
+// The final sample vectors are U times a small rotation R (Rayleigh-Ritz
+// on span U, then signs: Result.Basis and Rotation), so the loadings
+// Z u_k = (Z U) R_k follow
 // from the stash with no further pass over the store. Without it (a
 // resumed run, a cluster run, a failed write) Loadings computes Z U in a
 // half pass, with the same kernels, so the numbers are the same.

@@ -439,6 +439,5 @@ func readTrace(d runDir) (float64, error) {
 func selectionFor(ctx context.Context, fs *flag.FlagSet, st *matrixio.Store, o *pcaOptions) (*qc.Selection, error) {
 	q := o.qc
 	q.Threads = o.threads
-	q.FilterHWEOnly = true // as pca: no output shows the p-values
 	return qcSelection(ctx, fs, st, q, o.qcPrefix)
 }

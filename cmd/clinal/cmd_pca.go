@@ -218,7 +218,6 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 	}
 	ph.start("qc")
 	o.qc.Threads = o.threads
-	o.qc.FilterHWEOnly = true // no output of pca shows the p-values
 	sel, err := qcSelection(ctx, o.fs, st, o.qc, o.qcPrefix)
 	if err != nil {
 		return nil, err

@@ -49,11 +49,14 @@ func filterFlagsSet(fs *flag.FlagSet) []string {
 	return set
 }
 
-// qcSelection returns the selection for a command: the saved outputs of a
-// finished clinal qc run when prefix is set (an error if filter flags were
-// also given on fs, which may be nil), else a fresh qc.Run with opt.
+// qcSelection returns the selection for a command that runs a PCA (pca,
+// the cluster driver): the saved outputs of a finished clinal qc run when
+// prefix is set (an error if filter flags were also given on fs, which may
+// be nil), else a fresh qc.Run with opt, computing HWE p-values only where
+// the filter reads them (none of these commands writes them).
 func qcSelection(ctx context.Context, fs *flag.FlagSet, st *matrixio.Store, opt qc.Options, prefix string) (*qc.Selection, error) {
 	if prefix == "" {
+		opt.FilterHWEOnly = true
 		return qc.Run(ctx, st, opt)
 	}
 	if fs != nil {
