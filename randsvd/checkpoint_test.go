@@ -83,8 +83,8 @@ func TestResumeGivesSameResult(t *testing.T) {
 //     wanted pairs, finds them not yet converged, makes the other columns'
 //     images exact (one pass of width L-K) and goes on with exact passes;
 //     its result is held to that tolerance;
-//   - two passes at most: the refinement comes right after the start
-//     pass, on a basis of b columns, not l.
+//   - two passes at most: the second is a closing pass (the last one
+//     allowed), right after the start pass, on a basis of b columns.
 func TestResumeAfterRefinement(t *testing.T) {
 	st, _ := testCohort(t, 150, 800, 3, 0.05, 0.01, 21, 64)
 	op, err := NewOperator(st, OperatorOptions{Threads: 2})
@@ -96,7 +96,7 @@ func TestResumeAfterRefinement(t *testing.T) {
 		opt  SolveOptions
 	}{
 		{"past the fast floor", SolveOptions{K: 2, Seed: 3, Tol: 1e-9, MaxPasses: 20}},
-		{"refinement after the start pass", SolveOptions{K: 2, Seed: 3, MaxPasses: 2}},
+		{"closing pass after the start pass", SolveOptions{K: 2, Seed: 3, MaxPasses: 2}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			opt := tc.opt
@@ -115,8 +115,9 @@ func TestResumeAfterRefinement(t *testing.T) {
 			narrow := slices.Index(widths, opt.K)
 			switch tc.opt.MaxPasses {
 			case 2:
-				if full.Passes != 2 || widths[1] != opt.K || bases[1] == l {
-					t.Fatalf("passes %d, refinement widths %v, bases %v: want a refinement of %d columns of a basis narrower than %d at pass 2", full.Passes, widths, bases, opt.K, l)
+				w := closingWidth(opt.K, l, full.KrylovBlock)
+				if full.Passes != 2 || widths[1] != w || bases[1] != w || bases[0] != full.KrylovBlock {
+					t.Fatalf("passes %d, refinement widths %v, bases %v: want a closing pass of %d columns at pass 2 after a start block of %d", full.Passes, widths, bases, w, full.KrylovBlock)
 				}
 			default:
 				if narrow < 0 || narrow+1 >= len(widths) || widths[narrow+1] != l {
@@ -149,6 +150,61 @@ func TestResumeAfterRefinement(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// TestResumeAroundClosingPasses resumes from the checkpoint of every pass
+// of a solve in which closing passes (Solve, predictLast) were taken twice
+// without ending the run before one did, and must get the uninterrupted
+// numbers bit for bit (the product's rule of resumable runs; no outside
+// source). The cohort and seeds were picked for that sequence; the test
+// says so if the solver no longer takes it.
+func TestResumeAroundClosingPasses(t *testing.T) {
+	st, _ := testCohort(t, 300, 3000, 3, 0.05, 0.01, 11, 64)
+	op, err := NewOperator(st, OperatorOptions{Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := SolveOptions{K: 10, Seed: 1, BulkEdge: MPUpperEdgeScaled(op.Trace(), op.Dim(), op.Markers())}
+	dir := t.TempDir()
+	var states []*State
+	o1 := opt
+	o1.Checkpoint = func(s *State) error {
+		states = append(states, s)
+		return WriteCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", s.Pass)), "k", s)
+	}
+	full, err := Solve(context.Background(), op, o1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// A closing pass that went on leaves a fast state whose fast-pass
+	// count did not grow; one that ended the run an exact state whose
+	// basis is the closing pass's input.
+	went, w := 0, closingWidth(opt.K, full.BlockSize, full.KrylovBlock)
+	for p := 1; p < len(states); p++ {
+		if states[p].Fast && states[p].FastPasses == states[p-1].FastPasses {
+			went++
+		}
+	}
+	last := states[len(states)-1]
+	if went == 0 || last.Fast || last.refineWidth() != w || !states[len(states)-2].Fast || len(full.Basis) != op.Dim()*w {
+		t.Fatalf("%d closing passes went on, last state fast %v with a basis of %d: the case no longer exercises closing passes (pick another seed)", went, last.Fast, last.refineWidth())
+	}
+	for p := 1; p <= full.Passes; p++ {
+		s, err := ReadCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", p)), "k")
+		if err != nil {
+			t.Fatal(err)
+		}
+		o := opt
+		o.Resume = s
+		res, err := Solve(context.Background(), op, o)
+		if err != nil {
+			t.Fatalf("resume after pass %d: %v", p, err)
+		}
+		if res.Passes != full.Passes || res.FastPasses != full.FastPasses || !slices.Equal(res.Eigenvalues, full.Eigenvalues) ||
+			!slices.Equal(res.Vectors.RawMatrix().Data, full.Vectors.RawMatrix().Data) || !slices.Equal(res.Basis, full.Basis) {
+			t.Errorf("resumed after pass %d: %d passes (want %d) or numbers differ", p, res.Passes, full.Passes)
+		}
 	}
 }
 

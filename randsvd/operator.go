@@ -849,3 +849,7 @@ func (op *Operator) floatFirstJob(ws *workspace, q, _ int) {
 	fmaRows(w, ws.x, z, n, 1, lp)
 	ws.ss[q] = ss
 }
+
+// releaseWorkspace drops the pass buffers (workspaceReleaser); the next
+// pass, if any, makes them again.
+func (op *Operator) releaseWorkspace() { op.ws = nil }

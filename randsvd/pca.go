@@ -103,7 +103,10 @@ type MemoryPlan struct {
 // operator's X and Y in store-sample space (as wide as the pass). The
 // refinement (old and new U, KU, and its K-wide input, image and
 // Rayleigh-Ritz vectors) and the exact pass on the other columns stay
-// within as many.
+// within as many, and so does a closing pass: U, KU, its residual block,
+// its input and image and the operator's X and Y (at most l wide,
+// closingWidth) during the pass, then (the operator's buffers released)
+// U, KU, input, image and the new U and KU.
 const solverBlocks = 8
 
 // runtimeOverhead is memory reserved for the Go runtime, code and small
