@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"crypto/sha256"
+	"encoding/binary"
 	"encoding/hex"
 	"errors"
 	"flag"
@@ -368,9 +369,15 @@ func checkpointKey(st *matrixio.Store, sel *qc.Selection, o *pcaOptions) string 
 		}
 		h.Write(b)
 	}
+	// The counts as fixed-width binary (one Fprintf per marker was most of
+	// the key's 10 ms at 50,000 markers).
+	b := make([]byte, 0, 32*len(sel.Counts))
 	for _, c := range sel.Counts {
-		fmt.Fprintf(h, "%d,%d,%d,%d;", c.HomRef, c.Het, c.HomAlt, c.Missing)
+		for _, v := range [4]int64{int64(c.HomRef), int64(c.Het), int64(c.HomAlt), int64(c.Missing)} {
+			b = binary.LittleEndian.AppendUint64(b, uint64(v))
+		}
 	}
+	h.Write(b)
 	return hex.EncodeToString(h.Sum(nil))
 }
 
