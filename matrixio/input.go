@@ -74,6 +74,16 @@ func CheckOutputPath(path string) error {
 	if fi, err := os.Stat(path); err == nil && fi.IsDir() {
 		return BadInput("output %s: is a directory", path)
 	}
+	return CheckOutputPrefix(path)
+}
+
+// CheckOutputPrefix refuses, before any work is done, an output prefix
+// (PREFIX.covariates.tsv, ...) or path whose directory does not exist or
+// is not a directory. Errors are BadInput (exit code 2).
+func CheckOutputPrefix(path string) error {
+	if path == "" {
+		return BadInput("no output path given")
+	}
 	dir := filepath.Dir(path)
 	fi, err := os.Stat(dir)
 	switch {

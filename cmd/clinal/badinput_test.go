@@ -258,6 +258,20 @@ func TestBadInputBattery(t *testing.T) {
 		{name: "pca: --qc with a filter flag", setup: path(storePath), args: func(in, out string) []string {
 			return []string{"pca", in, "-k", "2", "-o", filepath.Join(out, "p"), "--qc", filepath.Join(out, "none"), "--min-maf", "0.1"}
 		}, want: "it cannot be combined with --min-maf"},
+		// An output directory that is not there is refused before any
+		// pass (it used to fail at the first checkpoint, after a pass).
+		{name: "pca: -o in a directory that does not exist", setup: path(storePath), args: func(in, out string) []string {
+			return []string{"pca", in, "-k", "2", "-o", filepath.Join(out, "none", "p")}
+		}, want: "pca: -o: output OUT/none/p: directory OUT/none does not exist"},
+		{name: "qc: -o under a file", setup: func(t *testing.T, out string) string {
+			if err := os.WriteFile(filepath.Join(out, "f"), nil, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			return storePath
+		}, args: func(in, out string) []string { return []string{"qc", in, "-o", filepath.Join(out, "f", "q")} }, want: "qc: -o: output OUT/f/q: OUT/f is not a directory"},
+		{name: "simulate: -o in a directory that does not exist", setup: path(storePath), args: func(_, out string) []string {
+			return []string{"simulate", "-o", filepath.Join(out, "none", "x.clinal")}
+		}, want: "simulate: -o: output OUT/none/x.clinal: directory OUT/none does not exist"},
 		{name: "unknown command", setup: path(storePath), args: func(in, _ string) []string { return []string{"pac", in} }, want: `clinal: unknown command "pac"`},
 	}
 	for _, tc := range cases {

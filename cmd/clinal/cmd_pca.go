@@ -171,6 +171,9 @@ func runPCA(ctx context.Context, e *env, args []string) error {
 	if o.out == "" {
 		return usage("pca: -o PREFIX is required")
 	}
+	if err := matrixio.CheckOutputPrefix(o.out); err != nil {
+		return fmt.Errorf("pca: -o: %w", err)
+	}
 	if o.autoK {
 		if o.maxAutoK < 1 || o.tw == "off" || !(o.twAlpha > 0 && o.twAlpha < 1) {
 			return usage("pca: -k auto needs --k-max >= 1, --tw not off and 0 < --tw-alpha < 1")

@@ -76,6 +76,8 @@ func runProject(ctx context.Context, e *env, args []string) error {
 		return usage("project: --model PREFIX is required")
 	case o.out == "":
 		return usage("project: -o PREFIX2 is required")
+	case matrixio.CheckOutputPrefix(o.out) != nil:
+		return fmt.Errorf("project: -o: %w", matrixio.CheckOutputPrefix(o.out))
 	case o.threads < 1:
 		return usage("project: --threads %d: want at least 1", o.threads)
 	case !(o.maxMismatch > 0 && o.maxMismatch <= 1):

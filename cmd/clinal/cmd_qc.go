@@ -84,6 +84,9 @@ func runQC(ctx context.Context, e *env, args []string) error {
 	if *out == "" {
 		return usage("qc: -o PREFIX is required")
 	}
+	if err := matrixio.CheckOutputPrefix(*out); err != nil {
+		return fmt.Errorf("qc: -o: %w", err)
+	}
 	if *threads < 1 {
 		return usage("qc: --threads %d: must be at least 1", *threads)
 	}

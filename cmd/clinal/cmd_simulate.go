@@ -8,6 +8,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/clinal/clinal/matrixio"
 	"github.com/clinal/clinal/matrixio/synth"
 )
 
@@ -58,6 +59,9 @@ func parseSimulate(args []string) (*simulateOptions, error) {
 	}
 	if o.out == "" {
 		return nil, usage("simulate: -o OUT.clinal or -o OUT.vcf.gz is required")
+	}
+	if err := matrixio.CheckOutputPath(o.out); err != nil {
+		return nil, fmt.Errorf("simulate: -o: %w", err)
 	}
 	if o.threads < 1 {
 		return nil, usage("simulate: --threads %d: want at least 1", o.threads)
