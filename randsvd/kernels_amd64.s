@@ -164,3 +164,104 @@ trloop:
 	JNZ trloop
 	VZEROUPPER
 	RET
+
+// func missingAVX512(row *byte, groups int, dst *int32, base int) int
+//
+// For each of groups 64-byte groups of a packed row, the samples with a
+// missing call (code 3: both bits of a 2-bit code set), ascending:
+// base + 32 w + bit/2 for each set bit of x & x>>1 & 0x55.. in the row's
+// 8-byte word w (counted from the first group). A group whose words hold
+// at most one missing call each (most, at the missing rates QC lets
+// through) takes no branch per word: each word's lowest set bit becomes a
+// position (VPLZCNTQ) and VPCOMPRESSD stores those of the words that have
+// one, in order. A group with a word of two or more is scanned bit by bit.
+// dst must have room for 256 entries per group. Returns the number
+// written. Needs AVX512F and AVX512CD.
+TEXT ·missingAVX512(SB), NOSPLIT, $0-40
+	MOVQ row+0(FP), SI
+	MOVQ groups+8(FP), CX
+	MOVQ dst+16(FP), DI
+	MOVQ base+24(FP), DX
+	XORQ AX, AX
+	MOVQ $0x5555555555555555, R8
+	VPBROADCASTQ R8, Z2          // the low bit of every code
+	MOVQ $63, R9
+	VPBROADCASTQ R9, Z8          // 63
+	MOVQ $1, R9
+	VPBROADCASTQ R9, Z9          // 1
+	VPBROADCASTQ DX, Z10
+	VPADDQ missingLanes<>(SB), Z10, Z10 // base + 32 j for word j of the group
+	MOVQ $256, R9
+	VPBROADCASTQ R9, Z11         // 256: the next group
+	VPXORQ Z12, Z12, Z12         // 0
+	TESTQ CX, CX
+	JZ mdone
+mgroup:
+	VMOVDQU64 (SI), Z0
+	VPSRLQ $1, Z0, Z1
+	VPANDQ Z0, Z1, Z1
+	VPANDQ Z2, Z1, Z1            // missing-code bits of each word
+	VPTESTMQ Z1, Z1, K1          // words with one or more
+	KMOVW K1, R9
+	TESTQ R9, R9
+	JZ mnext
+	VPSUBQ Z9, Z1, Z3
+	VPANDQ Z1, Z3, Z3
+	VPTESTMQ Z3, Z3, K2          // words with two or more
+	KMOVW K2, R10
+	TESTQ R10, R10
+	JNZ mslow
+	VPSUBQ Z1, Z12, Z4
+	VPANDQ Z1, Z4, Z4            // the lowest set bit
+	VPLZCNTQ Z4, Z4
+	VPSUBQ Z4, Z8, Z4            // its index
+	VPSRLQ $1, Z4, Z4
+	VPADDQ Z10, Z4, Z4           // the sample
+	VPMOVQD Z4, Y5
+	VPCOMPRESSD Z5, K1, (DI)(AX*4)
+	POPCNTL R9, R9
+	ADDQ R9, AX
+	JMP mnext
+mslow:
+	MOVQ DX, BX
+mword:
+	BSFQ R9, R10                 // word j of the group
+	MOVQ (SI)(R10*8), R11
+	MOVQ R11, R12
+	SHRQ $1, R12
+	ANDQ R12, R11
+	ANDQ R8, R11                 // its missing-code bits
+	SHLQ $5, R10
+	ADDQ BX, R10                 // base + 32 (8 g + j)
+mbit:
+	BSFQ R11, R12
+	SHRQ $1, R12
+	ADDQ R10, R12
+	MOVL R12, (DI)(AX*4)
+	INCQ AX
+	LEAQ -1(R11), R13
+	ANDQ R13, R11
+	JNZ mbit
+	LEAQ -1(R9), R13
+	ANDQ R13, R9
+	JNZ mword
+mnext:
+	ADDQ $64, SI
+	ADDQ $256, DX
+	VPADDQ Z11, Z10, Z10
+	DECQ CX
+	JNZ mgroup
+mdone:
+	VZEROUPPER
+	MOVQ AX, ret+32(FP)
+	RET
+
+DATA missingLanes<>+0(SB)/8, $0
+DATA missingLanes<>+8(SB)/8, $32
+DATA missingLanes<>+16(SB)/8, $64
+DATA missingLanes<>+24(SB)/8, $96
+DATA missingLanes<>+32(SB)/8, $128
+DATA missingLanes<>+40(SB)/8, $160
+DATA missingLanes<>+48(SB)/8, $192
+DATA missingLanes<>+56(SB)/8, $224
+GLOBL missingLanes<>(SB), RODATA|NOPTR, $64

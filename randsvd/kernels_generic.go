@@ -28,6 +28,10 @@ func fmaRows(dst, rows, w []float64, count, wstride, lp int) {
 // useAVX512 is false off amd64 (a variable, as there: tests set it).
 var useAVX512 = false
 
+// missingVector lists nothing off amd64: appendMissing's scalar scan does
+// every word.
+func missingVector(buf []int32, k int, row []byte) ([]int32, int, int) { return buf, k, 0 }
+
 // transposeRuns does no runs off amd64: transposeTile does them all.
 func transposeRuns(out, r0, r1, r2, r3 []byte, runs int) int { return 0 }
 

@@ -1,6 +1,7 @@
 package randsvd
 
 import (
+	"fmt"
 	"math/rand/v2"
 	"slices"
 	"testing"
@@ -201,7 +202,18 @@ func TestBuildTable(t *testing.T) {
 // samples), missing-heavy and sparse, with sample counts that end inside
 // the last byte. No outside source: the store's own codes.
 func TestFindMissing(t *testing.T) {
-	lengths := []int{63, 64, 65, 127, 128, 300, 520, 1250}
+	// Both scans where the vector one can run (missingVector); the scalar
+	// one alone elsewhere.
+	vector := useAVX512
+	defer func() { useAVX512 = vector }()
+	for _, v := range []bool{false, vector} {
+		useAVX512 = v
+		t.Run(fmt.Sprintf("vector=%v", v), testFindMissing)
+	}
+}
+
+func testFindMissing(t *testing.T) {
+	lengths := []int{63, 64, 65, 127, 128, 300, 520, 1250, 64 * 40, 64*40 + 17}
 	for nbytes := 1; nbytes <= 40; nbytes++ {
 		lengths = append(lengths, nbytes)
 	}
