@@ -687,3 +687,36 @@ func TestRayleighRitzHalves(t *testing.T) {
 		}
 	}
 }
+
+// TestSolveSmallCohorts: with fewer samples than the basis and a Krylov
+// block (l + b), the extension blocks shrink to the samples the basis
+// leaves and the basis ends up spanning them all, so every wanted pair is
+// exact. The eigenvalues must match gonum's EigenSym of the dense K
+// (reference library) to 1e-8 relative. Before, such runs failed with
+// "block became rank deficient".
+func TestSolveSmallCohorts(t *testing.T) {
+	for _, tc := range []struct{ n, k int }{{12, 3}, {12, 10}, {15, 5}, {18, 10}, {25, 10}, {30, 10}} {
+		t.Run(fmt.Sprintf("n=%d,k=%d", tc.n, tc.k), func(t *testing.T) {
+			st, geno := testCohort(t, tc.n, 40*tc.n, 2, 0.05, 0.01, uint64(tc.n), 64)
+			op, err := NewOperator(st, OperatorOptions{Threads: 2})
+			if err != nil {
+				t.Fatal(err)
+			}
+			res, err := Solve(context.Background(), op, SolveOptions{K: tc.k, Seed: 1, BulkEdge: MPUpperEdgeScaled(op.Trace(), op.Dim(), op.Markers())})
+			if err != nil {
+				t.Fatal(err)
+			}
+			var es mat.EigenSym
+			if !es.Factorize(denseK(geno, tc.n), false) {
+				t.Fatal("EigenSym failed")
+			}
+			vals := es.Values(nil)
+			for j := 0; j < tc.k; j++ {
+				want := vals[tc.n-1-j]
+				if rel := math.Abs(res.Eigenvalues[j]-want) / want; rel > 1e-8 {
+					t.Errorf("PC%d: eigenvalue %v, EigenSym %v (rel %g; %d passes, stop %s)", j+1, res.Eigenvalues[j], want, rel, res.Passes, res.StopReason)
+				}
+			}
+		})
+	}
+}

@@ -58,7 +58,7 @@ type PCAResult struct {
 	TraceSqEst  float64    // Hutchinson estimate of trace(K^2)
 	Markers     int        // M: markers in the operator
 	Passes      int
-	FastPasses  int // passes with float32 tables (before the exact ones)
+	FastPasses  int // passes with float32 tables (the others: closing passes, a refinement, exact passes)
 	StopReason  string
 	BlockSize   int // l, the solver's basis
 	KrylovBlock int // b, the vectors each pass of the iteration applies K to

@@ -11,9 +11,11 @@ import (
 	"path/filepath"
 )
 
-// A stash keeps, on disk, the marker-side products W = Z U that the
-// refinement pass of Solve computes anyway (the first half of an Operator
-// pass, one row per kept marker of the K values of the wanted pairs' U).
+// A stash keeps, on disk, the marker-side products W = Z C that the
+// closing or refinement pass of Solve computes anyway (the first half of
+// an Operator pass, one row per kept marker of the w values of its input
+// C: the wanted pairs' U_K, with the next Krylov block for a closing
+// pass).
 // The final sample vectors are U times a small rotation R (Rayleigh-Ritz
 // on span U, then signs: Result.Basis and Rotation), so the loadings
 // Z u_k = (Z U) R_k follow
@@ -21,7 +23,8 @@ import (
 // resumed run, a cluster run, a failed write) Loadings computes Z U in a
 // half pass, with the same kernels, so the numbers are the same.
 //
-// The rows take M * K * 8 bytes of disk, not memory, in a file that has no
+// The rows take M * w * 8 bytes of disk (w the pass's width: closingWidth,
+// or K for a refinement), not memory, in a file that has no
 // name (O_TMPFILE on Linux; elsewhere one unlinked as soon as it is made),
 // so nothing is left behind by a crash. A capture that fails, or that a
 // later pass makes stale, gives its disk back at once (discard).

@@ -44,11 +44,12 @@ import (
 )
 
 const (
-	// clusterFormat 2: the solver's passes apply K to blocks of b vectors
-	// and refine the K wanted pairs only (checkpoint version 4); a run
-	// planned for format 1 would resume into other numbers than either
-	// solver gives uninterrupted, so it is refused (plan it again).
-	clusterFormat  = "clinal-cluster-run/2"
+	// clusterFormat 3: the solver ends on closing passes (randsvd solver
+	// scheme krylov-b/2); format 2 (blocks of b vectors, refinement of the
+	// K wanted pairs, krylov-b/1) and 1 before it would resume into other
+	// numbers than either solver gives uninterrupted, so such runs are
+	// refused (plan them again).
+	clusterFormat  = "clinal-cluster-run/3"
 	manifestName   = "manifest.json"
 	selectionName  = "selection.bin"
 	qcReportName   = "qc-report.json"

@@ -356,13 +356,15 @@ func (c *checkpointWriter) wait() error {
 
 // checkpointKey identifies what a checkpoint's solver state depends on: the
 // store's content, the selection and the parameters that shape the
-// iteration (not tol or max-passes, which only decide when to stop).
+// iteration, tol and var-tol included (they decide which passes are
+// closing ones); not max-passes, which decides only when to stop (its last
+// pass is a closing one, after which a run has ended).
 func checkpointKey(st *matrixio.Store, sel *qc.Selection, o *pcaOptions) string {
 	h := sha256.New()
 	// The solver's scheme too: a checkpoint of another scheme (blocks of l
 	// vectors, before checkpoint version 4) would resume into numbers no
 	// uninterrupted run gives, so it is ignored.
-	fmt.Fprintf(h, "%s|k=%d|over=%d|seed=%d|scaling=%s|exact=%v|solver=%s|", st.Fingerprint(), o.k, o.oversample, o.seed, o.scaling, o.exact, randsvd.SolverScheme)
+	fmt.Fprintf(h, "%s|k=%d|over=%d|seed=%d|scaling=%s|exact=%v|solver=%s|tol=%g|vartol=%g|", st.Fingerprint(), o.k, o.oversample, o.seed, o.scaling, o.exact, randsvd.SolverScheme, o.tol, o.varTol)
 	for _, m := range [][]bool{sel.SampleKept, sel.MarkerKept} {
 		b := make([]byte, len(m))
 		for i, v := range m {
