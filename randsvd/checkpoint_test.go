@@ -132,23 +132,7 @@ func TestResumeAfterRefinement(t *testing.T) {
 					}
 				}
 			}
-			for p := 1; p <= full.Passes; p++ {
-				s, err := ReadCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", p)), "k")
-				if err != nil {
-					t.Fatal(err)
-				}
-				o := opt
-				o.Resume = s
-				res, err := Solve(context.Background(), op, o)
-				if err != nil {
-					t.Fatalf("resume after pass %d: %v", p, err)
-				}
-				if res.Passes != full.Passes || !slices.Equal(res.Eigenvalues, full.Eigenvalues) ||
-					!slices.Equal(res.Vectors.RawMatrix().Data, full.Vectors.RawMatrix().Data) ||
-					!slices.Equal(res.Basis, full.Basis) {
-					t.Errorf("resumed after pass %d (refinement width %d): %d passes (want %d) or numbers differ", p, widths[p-1], res.Passes, full.Passes)
-				}
-			}
+			resumeEveryPass(t, op, opt, dir, full)
 		})
 	}
 }
@@ -205,6 +189,14 @@ func TestResumeAroundClosingPasses(t *testing.T) {
 			t.Errorf("PC%d: eigenvalue %v, EigenSym %v (rel %g)", j+1, full.Eigenvalues[j], vals[n-1-j], rel)
 		}
 	}
+	resumeEveryPass(t, op, opt, dir, full)
+}
+
+// resumeEveryPass resumes opt's solve from the checkpoint DIR/P.ckpt of
+// every pass P of full (the uninterrupted result) and requires full's
+// numbers bit for bit.
+func resumeEveryPass(t *testing.T, op *Operator, opt SolveOptions, dir string, full *Result) {
+	t.Helper()
 	for p := 1; p <= full.Passes; p++ {
 		s, err := ReadCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", p)), "k")
 		if err != nil {

@@ -462,6 +462,12 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		ws = &workspace{}
 		op.ws = ws
 	}
+	if !fast {
+		// An exact pass (a closing pass, a refinement) needs no float32
+		// rows or tables: they go, so the pass's float64 ones take their
+		// memory; a later fast pass makes them again.
+		ws.x32, ws.tabs32 = nil, nil
+	}
 	if ws.l != l {
 		// One row layout for exact and fast passes: rows of dropped samples
 		// and padding columns stay zero. The solver applies K to a few

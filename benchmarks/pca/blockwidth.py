@@ -54,17 +54,27 @@ def solve(k_mat, m, k, b, seed, tol=1e-6, vartol=2e-3, maxp=30, floor=6e-7):
     return maxp, width, th[:k].sum()
 
 
-def main():
+def build_dumpz():
+    """Builds benchmarks/pca/dumpz into a temporary directory."""
     dumpz = os.path.join(tempfile.mkdtemp(), "dumpz")
     subprocess.check_call(["go", "build", "-o", dumpz, "./benchmarks/pca/dumpz"], cwd=ROOT)
+    return dumpz
+
+
+def dense_k(dumpz, store):
+    """K = Z^T Z / M of a store (N x N, float64) and M."""
+    with tempfile.TemporaryDirectory() as d:
+        npy = os.path.join(d, "z.npy")
+        subprocess.check_call([dumpz, store, npy], stdout=subprocess.DEVNULL)
+        z = np.load(npy).astype(np.float64)
+    m = z.shape[0]
+    return (z.T @ z) / m, m
+
+
+def main():
+    dumpz = build_dumpz()
     for store in sys.argv[1:]:
-        with tempfile.TemporaryDirectory() as d:
-            npy = os.path.join(d, "z.npy")
-            subprocess.check_call([dumpz, store, npy], stdout=subprocess.DEVNULL)
-            z = np.load(npy).astype(np.float64)
-        m = z.shape[0]
-        k_mat = (z.T @ z) / m
-        del z
+        k_mat, m = dense_k(dumpz, store)
         ev = np.linalg.eigvalsh(k_mat)[::-1]
         print(f"{store}: N {k_mat.shape[0]}, M {m}, top eigenvalues {np.round(ev[:6], 3)}")
         for k in (1, 2, 5, 10, 20):

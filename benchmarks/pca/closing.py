@@ -12,8 +12,8 @@ max(tol, 6e-7 theta_1 / theta_j) while passes are fast, or the pairs above
 the Marchenko-Pastur edge converged and the captured variance changed by
 less than 2e-3) and what a closing pass from that state would give:
 Rayleigh-Ritz on [U_K R_c] (R_c the residuals of the top c = w - K pairs,
-w = min(K + b, l)) and the strict tests on it (tol, no fast floor; a
-bulk-variance stop also needs no loss of captured variance). It then
+w = min(K + b, l)) and the strict tests on it (tol, no fast floor). It
+then
 replays two schemes on the same sequence:
 
   before: fast passes until the tests pass, then a refinement (an exact
@@ -32,10 +32,11 @@ width w: fits to widths 10-32, 2026-12-02); and totals.
 Usage: benchmarks/pca/closing.py STORE.clinal [STORE ...]
 (needs python3-numpy; see blockwidth.py for dumpz and sizes.)
 """
-import os, subprocess, sys, tempfile
+import sys
 import numpy as np
 
-ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+from blockwidth import build_dumpz, dense_k, rr  # same folder
+
 TOL, FLOOR, VARTOL = 1e-6, 6e-7, 2e-3
 
 
@@ -45,13 +46,6 @@ def fast_cost(w):
 
 def exact_cost(w):
     return 0.10 + 0.0053 * w
-
-
-def rr(b, kb, l):
-    h = b.T @ kb
-    th, v = np.linalg.eigh((h + h.T) / 2)
-    idx = np.argsort(th)[::-1][:l]
-    return b @ v[:, idx], kb @ v[:, idx], th[idx]
 
 
 def orth(r, u):
@@ -90,8 +84,6 @@ def trace(k_mat, m, k, seed, maxp=30):
         c = np.hstack([u[:, :k], rc])
         uc, kuc, thc = rr(c, k_mat @ c, w)
         cstop, ccap, _ = tests(uc, kuc, thc, k, cap, edge, 0.0)
-        if cstop and ccap < cap * (1 - 1e-6) and not np.all(np.linalg.norm(kuc - uc * thc, axis=0)[:k] / np.abs(thc[:k]) <= TOL):
-            cstop = False  # no loss of captured variance for a bulk stop
         s["closing_stops"], s["closing_cap"] = cstop, ccap
         prev = cap
         r = orth(res[:, :b], u)
@@ -135,17 +127,10 @@ def replay(t, closing):
 
 
 def main():
-    dumpz = os.path.join(tempfile.mkdtemp(), "dumpz")
-    subprocess.check_call(["go", "build", "-o", dumpz, "./benchmarks/pca/dumpz"], cwd=ROOT)
+    dumpz = build_dumpz()
     tot = {"runs": 0, "foreseen": 0, "wrong": 0, "before": 0.0, "closing": 0.0, "worse": 0}
     for store in sys.argv[1:]:
-        with tempfile.TemporaryDirectory() as d:
-            npy = os.path.join(d, "z.npy")
-            subprocess.check_call([dumpz, store, npy], stdout=subprocess.DEVNULL)
-            z = np.load(npy).astype(np.float64)
-        m = z.shape[0]
-        k_mat = (z.T @ z) / m
-        del z
+        k_mat, m = dense_k(dumpz, store)
         ev = np.linalg.eigvalsh(k_mat)[::-1]
         print(f"{store}: N {k_mat.shape[0]}, M {m}")
         for k in (1, 2, 5, 10, 20):
