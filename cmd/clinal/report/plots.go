@@ -272,60 +272,6 @@ func scatterFigure(in *PCAInput, gs groupSet, show []int, a, b int, key string) 
 	return &figure{Key: key, Title: p.Title.Text, SVG: svg, PNG: png}, nil
 }
 
-// discs draws a scatter's points without offering their glyph boxes:
-// gonum's Plot.Draw asks every GlyphBoxer for one box per point four times
-// a canvas, to pad the axes so that no disc is clipped, and only the
-// outermost boxes count. edgeBoxes gives those (the same padding, so the
-// same figure) from four points.
-type discs struct{ s *plotter.Scatter }
-
-func (d discs) Plot(c draw.Canvas, p *plot.Plot) { d.s.Plot(c, p) }
-
-// edgeBoxes is the glyph boxes of the leftmost, rightmost, lowest and
-// highest points of a scatter whose glyphs all have the same size (the
-// style's rectangle); it draws nothing.
-type edgeBoxes struct {
-	pts   plotter.XYs
-	style draw.GlyphStyle
-}
-
-func (edgeBoxes) Plot(draw.Canvas, *plot.Plot) {}
-
-func (e edgeBoxes) GlyphBoxes(p *plot.Plot) []plot.GlyphBox {
-	out := make([]plot.GlyphBox, len(e.pts))
-	for i, pt := range e.pts {
-		out[i] = plot.GlyphBox{X: p.X.Norm(pt.X), Y: p.Y.Norm(pt.Y), Rectangle: e.style.Rectangle()}
-	}
-	return out
-}
-
-// extremes is the edgeBoxes of the points (xs[i], ys[i]).
-func extremes(xs, ys []float64, style draw.GlyphStyle) edgeBoxes {
-	e := edgeBoxes{style: style}
-	if len(xs) == 0 {
-		return e
-	}
-	lo, hi, bot, top := 0, 0, 0, 0
-	for i := range xs {
-		if xs[i] < xs[lo] {
-			lo = i
-		}
-		if xs[i] > xs[hi] {
-			hi = i
-		}
-		if ys[i] < ys[bot] {
-			bot = i
-		}
-		if ys[i] > ys[top] {
-			top = i
-		}
-	}
-	for _, i := range [4]int{lo, hi, bot, top} {
-		e.pts = append(e.pts, plotter.XY{X: xs[i], Y: ys[i]})
-	}
-	return e
-}
-
 // screeFigure plots the eigenvalues against PC number with a dashed line
 // at the Marchenko-Pastur upper edge (the largest eigenvalue expected from
 // unstructured noise, design: null spectrum).
