@@ -451,26 +451,36 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 				rel.releaseWorkspace()
 			}
 			cy := mat.NewDense(n, w, y)
-			uc, auc, thc, rot := rayleighRitz([]*mat.Dense{mat.NewDense(n, w, in)}, []*mat.Dense{cy}, w, th)
-			// (Span C holds U_K, so its captured variance is at least U_K's
-			// exact one, Ky Fan: the bulk-variance test needs no guard.)
-			if stopC, _, _ := test(uc, auc, thc, false, st.Pass+1, captured); stopC != "" {
-				if capture {
-					opt.stash.pass = st.Pass + 1
-				}
-				prevVar = captured
-				u, au, theta = uc, auc, thc
-				if err := done(refined(u, au, theta, captured, in, rot)); err != nil {
-					return nil, err
-				}
-				continue
-			}
-			uc, auc, thc, rot, in = nil, nil, nil, nil, nil
-			// Go on: U with its first K images now exact, extended by R_c
-			// (views of U, KU and the pass's images, no copy).
-			u, au, theta, _ = rayleighRitz(
+			// Rayleigh-Ritz on [U R_c], U's first K images now exact (views,
+			// no copy): the basis the iteration goes on with, and what the
+			// stopping tests read first, as after a fast pass. Testing span C
+			// instead would favour stopping: its smaller captured variance
+			// can sit closer to the last pass's.
+			uf, auf, thf, _ := rayleighRitz(
 				[]*mat.Dense{u.Slice(0, n, 0, opt.K).(*mat.Dense), u.Slice(0, n, opt.K, st.L).(*mat.Dense), rc},
 				[]*mat.Dense{cy.Slice(0, n, 0, opt.K).(*mat.Dense), au.Slice(0, n, opt.K, st.L).(*mat.Dense), cy.Slice(0, n, opt.K, w).(*mat.Dense)}, l, th)
+			if stopF, _, capF := test(uf, auf, thf, true, st.Pass+1, captured); stopF != "" {
+				// Then the exact pairs of span C, strictly, against that
+				// captured variance, as a refinement's are against its
+				// pass's: the run ends on them if they pass (a resume from
+				// this state then stops at once, on the same test).
+				uc, auc, thc, rot := rayleighRitz([]*mat.Dense{mat.NewDense(n, w, in)}, []*mat.Dense{cy}, w, th)
+				if stopC, _, _ := test(uc, auc, thc, false, st.Pass+1, capF); stopC != "" {
+					if capture {
+						opt.stash.pass = st.Pass + 1
+					}
+					prevVar = capF
+					u, au, theta = uc, auc, thc
+					if err := done(refined(u, au, theta, capF, in, rot)); err != nil {
+						return nil, err
+					}
+					continue
+				}
+			}
+			// Go on from [U R_c] (a fast state: the tests that passed on it,
+			// if any, now end the fast passes with a refinement).
+			in = nil
+			u, au, theta = uf, auf, thf
 			prevVar = captured
 			next := &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
 				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),

@@ -12,8 +12,9 @@ max(tol, 6e-7 theta_1 / theta_j) while passes are fast, or the pairs above
 the Marchenko-Pastur edge converged and the captured variance changed by
 less than 2e-3) and what a closing pass from that state would give:
 Rayleigh-Ritz on [U_K R_c] (R_c the residuals of the top c = w - K pairs,
-w = min(K + b, l)) and the strict tests on it (tol, no fast floor). It
-then
+w = min(K + b, l)) and its tests (clinal's, on Rayleigh-Ritz on [U R_c]
+as after a fast pass, then strictly on span C against that captured
+variance). It then
 replays two schemes on the same sequence:
 
   before: fast passes until the tests pass, then a refinement (an exact
@@ -82,9 +83,14 @@ def trace(k_mat, m, k, seed, maxp=30):
         res = ku - u * th
         rc = orth(res[:, :w - k], u)
         c = np.hstack([u[:, :k], rc])
-        uc, kuc, thc = rr(c, k_mat @ c, w)
-        cstop, ccap, _ = tests(uc, kuc, thc, k, cap, edge, 0.0)
-        s["closing_stops"], s["closing_cap"] = cstop, ccap
+        kc = k_mat @ c
+        uc, kuc, thc = rr(c, kc, w)
+        # The closing pass's tests: first on [U R_c] as after a fast pass,
+        # then strictly on span C against that captured variance.
+        uf, kuf, thf = rr(np.hstack([u, rc]), np.hstack([ku, kc[:, k:]]), l)
+        fstop, fcap, _ = tests(uf, kuf, thf, k, cap, edge, FLOOR)
+        cstop, ccap, _ = tests(uc, kuc, thc, k, fcap, edge, 0.0)
+        s["closing_stops"], s["closing_cap"] = fstop and cstop, ccap
         prev = cap
         r = orth(res[:, :b], u)
         u, ku, th = rr(np.hstack([u, r]), np.hstack([ku, k_mat @ r]), l)
