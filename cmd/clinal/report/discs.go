@@ -3,7 +3,6 @@ package report
 import (
 	"image"
 	"image/color"
-	imgdraw "image/draw"
 	"math"
 
 	"gonum.org/v1/plot"
@@ -46,7 +45,9 @@ func (d discs) Plot(c draw.Canvas, p *plot.Plot) {
 // (draw.RingGlyph, as gonum strokes it) of the style's radius and colour
 // at each point, over what is there, anti-aliased by each pixel's
 // distance from the edge. Positions map as vgimg's canvas maps them: x
-// and y in points times dpi/72, y from the bottom of the image.
+// and y in points times dpi/72, y from the bottom of the image. The
+// coverage masks are made once per sixteenth of a pixel of the centre's
+// position (256 of them) and blended straight into the pixels.
 func stampGlyphs(img *image.RGBA, dpi float64, pts plotter.XYs, trX, trY func(float64) vg.Length, sty draw.GlyphStyle) {
 	r := sty.Radius.Dots(dpi)
 	_, ring := sty.Shape.(draw.RingGlyph)
@@ -56,36 +57,73 @@ func stampGlyphs(img *image.RGBA, dpi float64, pts plotter.XYs, trX, trY func(fl
 		reach += half
 	}
 	size := int(math.Ceil(2*reach)) + 2
-	mask := image.NewAlpha(image.Rect(0, 0, size, size))
-	src := image.NewUniform(sty.Color)
-	if sty.Color == nil {
-		src = image.NewUniform(color.Black)
-	}
-	height := float64(img.Bounds().Dy())
-	for _, pt := range pts {
-		cx := trX(pt.X).Dots(dpi)
-		cy := height - trY(pt.Y).Dots(dpi)
-		if math.IsNaN(cx) || math.IsNaN(cy) || math.IsInf(cx, 0) || math.IsInf(cy, 0) {
-			continue
+	const sub = 16
+	var masks [sub * sub][]uint8
+	mask := func(fx, fy int) []uint8 {
+		m := masks[fy*sub+fx]
+		if m != nil {
+			return m
 		}
-		x0, y0 := int(math.Floor(cx-reach)), int(math.Floor(cy-reach))
+		m = make([]uint8, size*size)
+		// The centre sits at (reach + fx/sub, reach + fy/sub) from the
+		// mask's corner.
+		cx, cy := reach+float64(fx)/sub, reach+float64(fy)/sub
 		for j := 0; j < size; j++ {
-			dy := float64(y0+j) + 0.5 - cy
+			dy := float64(j) + 0.5 - cy
 			for i := 0; i < size; i++ {
-				dx := float64(x0+i) + 0.5 - cx
+				dx := float64(i) + 0.5 - cx
 				d := math.Sqrt(dx*dx + dy*dy)
-				var a float64
+				a := r + 0.5 - d
 				if ring {
 					a = half + 0.5 - math.Abs(d-r)
-				} else {
-					a = r + 0.5 - d
 				}
-				a = math.Min(1, math.Max(0, a))
-				mask.Pix[j*mask.Stride+i] = uint8(a*255 + 0.5)
+				m[j*size+i] = uint8(math.Min(1, math.Max(0, a))*255 + 0.5)
 			}
 		}
-		rect := image.Rect(x0, y0, x0+size, y0+size)
-		imgdraw.DrawMask(img, rect, src, image.Point{}, mask, image.Point{}, imgdraw.Over)
+		masks[fy*sub+fx] = m
+		return m
+	}
+	col := sty.Color
+	if col == nil {
+		col = color.Black
+	}
+	sr, sg, sb, sa := col.RGBA() // premultiplied, 16 bits
+	height := float64(img.Bounds().Dy())
+	b := img.Bounds()
+	for _, pt := range pts {
+		px := trX(pt.X).Dots(dpi) - reach
+		py := height - trY(pt.Y).Dots(dpi) - reach
+		if math.IsNaN(px) || math.IsNaN(py) || math.IsInf(px, 0) || math.IsInf(py, 0) {
+			continue
+		}
+		// The corner to the nearest sixteenth of a pixel: whole pixels and
+		// the mask of the remaining sixteenths.
+		qx, qy := int(math.Floor(px*sub+0.5)), int(math.Floor(py*sub+0.5))
+		x0, y0 := qx>>4, qy>>4 // sub = 16: floor division
+		m := mask(qx&(sub-1), qy&(sub-1))
+		for j := 0; j < size; j++ {
+			y := y0 + j
+			if y < b.Min.Y || y >= b.Max.Y {
+				continue
+			}
+			for i := 0; i < size; i++ {
+				x := x0 + i
+				a := uint32(m[j*size+i])
+				if a == 0 || x < b.Min.X || x >= b.Max.X {
+					continue
+				}
+				// Porter-Duff over, as image/draw's DrawMask with a uniform
+				// source: dst = src*a + dst*(1 - sa*a).
+				a *= 0x101
+				o := img.PixOffset(x, y)
+				p := img.Pix[o : o+4 : o+4]
+				inv := 0xffff - sa*a/0xffff
+				p[0] = uint8((uint32(p[0])*0x101*inv + sr*a) / 0xffff >> 8)
+				p[1] = uint8((uint32(p[1])*0x101*inv + sg*a) / 0xffff >> 8)
+				p[2] = uint8((uint32(p[2])*0x101*inv + sb*a) / 0xffff >> 8)
+				p[3] = uint8((uint32(p[3])*0x101*inv + sa*a) / 0xffff >> 8)
+			}
+		}
 	}
 }
 
