@@ -716,7 +716,43 @@ func TestSolveSmallCohorts(t *testing.T) {
 				if rel := math.Abs(res.Eigenvalues[j]-want) / want; rel > 1e-8 {
 					t.Errorf("PC%d: eigenvalue %v, EigenSym %v (rel %g; %d passes, stop %s)", j+1, res.Eigenvalues[j], want, rel, res.Passes, res.StopReason)
 				}
+				// Exact pairs: residuals within the default tol (1e-6).
+				if !res.Converged[j] || res.Residuals[j] > 1e-6*res.Eigenvalues[j] {
+					t.Errorf("PC%d: residual %g for eigenvalue %g (converged %v; stop %s)", j+1, res.Residuals[j], res.Eigenvalues[j], res.Converged[j], res.StopReason)
+				}
 			}
+		})
+	}
+}
+
+// TestClosingPassAfterStartBlock: with b = K (K a multiple of 4 from 12 up,
+// the default oversampling) the basis after the start pass is exactly K
+// wide, and a closing pass right after it (the last of two passes) has no
+// columns of U past K. It must run, end on "max-passes" with float64
+// pairs, and resume from its first pass bit for bit (the product's rules;
+// no outside source). It panicked on a zero-width view before.
+func TestClosingPassAfterStartBlock(t *testing.T) {
+	st, _ := testCohort(t, 200, 2000, 3, 0.05, 0.01, 31, 64)
+	op, err := NewOperator(st, OperatorOptions{Threads: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []int{12, 20} {
+		t.Run(fmt.Sprintf("k=%d", k), func(t *testing.T) {
+			opt := SolveOptions{K: k, Seed: 2, MaxPasses: 2}
+			dir := t.TempDir()
+			o1 := opt
+			o1.Checkpoint = func(s *State) error {
+				return WriteCheckpoint(filepath.Join(dir, fmt.Sprintf("%d.ckpt", s.Pass)), "k", s)
+			}
+			full, err := Solve(context.Background(), op, o1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if full.KrylovBlock != k || full.Passes != 2 || full.FastPasses != 1 || full.StopReason != "max-passes" || full.Rotation == nil {
+				t.Fatalf("b %d, %d passes (%d fast), stop %s, rotation %v: want b = k, a closing second pass", full.KrylovBlock, full.Passes, full.FastPasses, full.StopReason, full.Rotation != nil)
+			}
+			resumeEveryPass(t, op, opt, dir, full)
 		})
 	}
 }

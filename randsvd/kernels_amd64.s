@@ -1,3 +1,5 @@
+//go:build amd64 && !purego
+
 #include "textflag.h"
 
 // func addRowsAVX2(dst, src, v *float64, rows, lp int)
@@ -175,7 +177,8 @@ trloop:
 // through) takes no branch per word: each word's lowest set bit becomes a
 // position (VPLZCNTQ) and VPCOMPRESSD stores those of the words that have
 // one, in order. A group with a word of two or more is scanned bit by bit.
-// dst must have room for 256 entries per group. Returns the number
+// dst must have room for 256 entries per group (a group's stores may run
+// past its count, within that room). Returns the number
 // written. Needs AVX512F and AVX512CD.
 TEXT ·missingAVX512(SB), NOSPLIT, $0-40
 	MOVQ row+0(FP), SI
@@ -218,7 +221,8 @@ mgroup:
 	VPSRLQ $1, Z4, Z4
 	VPADDQ Z10, Z4, Z4           // the sample
 	VPMOVQD Z4, Y5
-	VPCOMPRESSD Z5, K1, (DI)(AX*4)
+	VPCOMPRESSD Z5, K1, Z6       // in a register: the memory form is slow on some CPUs
+	VMOVDQU32 Y6, (DI)(AX*4)     // eight entries; those past the count are overwritten later
 	POPCNTL R9, R9
 	ADDQ R9, AX
 	JMP mnext

@@ -127,7 +127,8 @@ type State struct {
 	// basis RefineIn (N x w) whose exact images entered its Rayleigh-Ritz
 	// and the rotation Rot (w x w, row-major), with the first w columns of
 	// U = RefineIn Rot. w is closingWidth after a closing pass (C = [U_K
-	// R_c]; then L = w), K after the refinement of the
+	// R_c]; then L = w; less in a cohort of fewer than l + b samples, where
+	// R_c shrinks to the samples the basis leaves), K after the refinement of the
 	// wanted pairs (columns K.. of AU are then still fast images), or L (l,
 	// or b right after the start pass) after the exact pass on those other
 	// columns, which runs whenever the tests ask for more passes after a
@@ -313,10 +314,12 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 	}
 	for {
 		stop, rel, captured := test(u, au, theta, st.Fast, st.Pass, prevVar)
-		if stop == "" && st.L >= n {
+		if w := st.refineWidth(); stop == "" && st.L >= n && (st.Fast || w == 0 || w == st.L) {
 			// The basis spans every sample (a cohort of fewer than l + b):
 			// Rayleigh-Ritz on it is exact, and there is nothing to extend
-			// it with. A fast state still gets its refinement.
+			// it with. A fast state still gets its refinement; after a
+			// refinement of the wanted pairs only, the exact pass on the
+			// other columns comes first (below).
 			stop = "converged"
 		}
 		if stop != "" && st.Fast {
@@ -456,14 +459,27 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			// stopping tests read first, as after a fast pass. Testing span C
 			// instead would favour stopping: its smaller captured variance
 			// can sit closer to the last pass's.
-			uf, auf, thf, _ := rayleighRitz(
-				[]*mat.Dense{u.Slice(0, n, 0, opt.K).(*mat.Dense), u.Slice(0, n, opt.K, st.L).(*mat.Dense), rc},
-				[]*mat.Dense{cy.Slice(0, n, 0, opt.K).(*mat.Dense), au.Slice(0, n, opt.K, st.L).(*mat.Dense), cy.Slice(0, n, opt.K, w).(*mat.Dense)}, l, th)
+			full := func() (*mat.Dense, *mat.Dense, []float64) {
+				bs := []*mat.Dense{u.Slice(0, n, 0, opt.K).(*mat.Dense)}
+				ks := []*mat.Dense{cy.Slice(0, n, 0, opt.K).(*mat.Dense)}
+				if st.L > opt.K { // U's columns past K (none when b = K right after the start pass)
+					bs = append(bs, u.Slice(0, n, opt.K, st.L).(*mat.Dense))
+					ks = append(ks, au.Slice(0, n, opt.K, st.L).(*mat.Dense))
+				}
+				bs, ks = append(bs, rc), append(ks, cy.Slice(0, n, opt.K, w).(*mat.Dense))
+				uf, auf, thf, _ := rayleighRitz(bs, ks, l, th)
+				return uf, auf, thf
+			}
+			uf, auf, thf := full()
 			if stopF, _, capF := test(uf, auf, thf, true, st.Pass+1, captured); stopF != "" {
 				// Then the exact pairs of span C, strictly, against that
 				// captured variance, as a refinement's are against its
 				// pass's: the run ends on them if they pass (a resume from
-				// this state then stops at once, on the same test).
+				// this state then stops at once, on the same test). [U R_c]'s
+				// blocks go first (the memory plan counts one pair of new
+				// N x l blocks), and are made again, the same, if the run
+				// goes on.
+				uf, auf = nil, nil
 				uc, auc, thc, rot := rayleighRitz([]*mat.Dense{mat.NewDense(n, w, in)}, []*mat.Dense{cy}, w, th)
 				if stopC, _, _ := test(uc, auc, thc, false, st.Pass+1, capF); stopC != "" {
 					if capture {
@@ -476,6 +492,8 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 					}
 					continue
 				}
+				uc, auc = nil, nil
+				uf, auf, thf = full()
 			}
 			// Go on from [U R_c] (a fast state: the tests that passed on it,
 			// if any, now end the fast passes with a refinement).

@@ -21,8 +21,11 @@ replays two schemes on the same sequence:
           pass of width K);
   closing: at each state predictLast's extrapolation decides whether the
           next pass is a closing one (exact, width w); the run ends there
-          if its tests pass, else the iteration goes on (a wrong guess);
-          unforeseen stops still get the refinement.
+          if its tests pass, else the iteration goes on (a wrong guess:
+          modelled as the ordinary next state, where the solver goes on
+          from [U R_c], or refines when only the span-C test failed; no
+          recorded run had one); unforeseen stops still get the
+          refinement.
 
 It prints, per store, k and seed: passes, wrong guesses, the captured
 variance at the stop as a fraction of the exact top-k sum, and a cost in

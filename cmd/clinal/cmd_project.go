@@ -76,14 +76,15 @@ func runProject(ctx context.Context, e *env, args []string) error {
 		return usage("project: --model PREFIX is required")
 	case o.out == "":
 		return usage("project: -o PREFIX2 is required")
-	case matrixio.CheckOutputPrefix(o.out) != nil:
-		return fmt.Errorf("project: -o: %w", matrixio.CheckOutputPrefix(o.out))
 	case o.threads < 1:
 		return usage("project: --threads %d: want at least 1", o.threads)
 	case !(o.maxMismatch > 0 && o.maxMismatch <= 1):
 		return usage("project: --max-allele-mismatch %v: want a fraction in (0, 1]", o.maxMismatch)
 	case o.effMarkers < 0:
 		return usage("project: --effective-markers %v: want a positive number", o.effMarkers)
+	}
+	if err := matrixio.CheckOutputPrefix(o.out); err != nil {
+		return fmt.Errorf("project: -o: %w", err)
 	}
 	switch randsvd.Rescale(o.rescale) {
 	case randsvd.RescaleMass, randsvd.RescaleNone:
