@@ -106,7 +106,8 @@ type MemoryPlan struct {
 // within as many, and so does a closing pass: U, KU, its residual block,
 // its input and image and the operator's X and Y (at most l wide,
 // closingWidth) during the pass, then (the operator's buffers released)
-// U, KU, input, image and the new U and KU.
+// U, KU, input, image and one new U and KU at a time (Rayleigh-Ritz on
+// [U R_c], dropped before the one on span C) with its temporary.
 const solverBlocks = 8
 
 // runtimeOverhead is memory reserved for the Go runtime, code and small
