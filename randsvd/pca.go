@@ -39,8 +39,8 @@ type PCAOptions struct {
 	// ExactPasses disables fast passes (Solve, FastApplier): every pass
 	// float64, about 1.5x the time.
 	ExactPasses bool
-	// LoadingsStash, when not empty, is a directory where the refinement
-	// pass keeps its marker-side products Z U (M * l * 8 bytes of disk, in
+	// LoadingsStash, when not empty, is a directory where the closing or
+	// refinement pass keeps its marker-side products Z C (M * w * 8 bytes of disk, in
 	// a file without a name where the system allows it, else one unlinked
 	// at once), so Loadings needs no half pass of its own (stash.go).
 	// Empty: Loadings makes its half pass.
@@ -69,7 +69,7 @@ type PCAResult struct {
 	TW          []TWResult // per PC; nil when the test was off
 	TWMethod    string     // how n' was obtained: "exact trace(K^2)", "assumed M" or "off"
 	TraceSq     float64    // exact trace(K^2) when TWMethod is exact, else NaN
-	// When the run ended on a refinement pass (Result.Basis): Scores =
+	// When the run ended on a closing or refinement pass (Result.Basis): Scores =
 	// Basis Rotation. Loadings then computes Z Basis (from the stash or a
 	// half pass) and rotates it, so resumed and cluster runs give the same
 	// loadings as an uninterrupted local one.
@@ -154,7 +154,7 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 		p.KernelBytes += int64(secondParts(n)-1) * int64(n) * lp * 8
 	}
 	// The loadings stash's two row buffers and its encoding buffer during
-	// the refinement pass (stash.go).
+	// the closing or refinement pass (stash.go).
 	p.KernelBytes += 3 * blockM * lp * 8
 	if st.Codec() == matrixio.CodecGeno2 && int64(st.ChunkMarkers()) < target {
 		p.KernelBytes += target * rb
@@ -228,7 +228,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 	}
 	var sh *stash
 	if opt.LoadingsStash != "" && !opt.ExactPasses && !op.float {
-		// Only a run of fast passes ends on a refinement pass. Without a
+		// Only a run of fast passes ends on a closing or refinement pass. Without a
 		// stash Loadings makes its own half pass: a directory that cannot
 		// take one costs time, not the run.
 		sh, _ = newStash(op, opt.LoadingsStash)
@@ -268,7 +268,7 @@ func RunPCA(ctx context.Context, st *matrixio.Store, opt PCAOptions) (*PCAResult
 // norm over markers) for the kept markers in store order, so a new sample
 // with standardized vector z projects as score_k = z . v_k / sqrt(M
 // lambda_k). fn receives the kept-marker ordinal and the K loadings
-// (reused slice). When the run ended on a refinement pass, Z u_k is
+// (reused slice). When the run ended on a closing or refinement pass, Z u_k is
 // (Z Basis) Rotation_k with Z Basis from the stash RunPCA kept
 // (PCAOptions.LoadingsStash, no pass over the store) or from half a pass;
 // otherwise it is half a pass over the scores. It releases the stash.

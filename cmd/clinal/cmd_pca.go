@@ -239,7 +239,7 @@ func doPCA(ctx context.Context, e *env, storePath string, o *pcaOptions) (*pcaOu
 		Seed: o.seed, Threads: o.threads, Memory: int64(o.memory), Scaling: randsvd.Scaling(o.scaling),
 		SampleKept: sel.SampleKept, MarkerKept: sel.MarkerKept, Counts: sel.Counts, TW: o.tw, ExactPasses: o.exact}
 	if !o.noLoadings {
-		// The refinement pass keeps Z U beside the outputs, so the
+		// The closing (or refinement) pass keeps Z C beside the outputs, so the
 		// loadings cost no half pass (randsvd.PCAOptions.LoadingsStash).
 		popt.LoadingsStash = filepath.Dir(o.out)
 	}
