@@ -89,7 +89,7 @@ type Result struct {
 	History     [][]float64 // relative residuals of the wanted pairs after each RR step
 	TraceSqEst  float64     // Hutchinson estimate of trace(K^2) from the first pass
 	BlockSize   int         // l = K + oversampling: the basis
-	KrylovBlock int         // b: the vectors each pass of the iteration applies K to (blockWidth)
+	KrylovBlock int         // b: the vectors each pass of the iteration applies K to (blockWidth; fewer where a small cohort leaves fewer samples)
 	StopReason  string      // "converged", "bulk-variance-stable" or "max-passes"
 	// When the last pass was a closing or refinement pass: Vectors = Basis
 	// Rotation, Basis (N x w, row-major) its input and Rotation w x K
