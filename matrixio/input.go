@@ -68,9 +68,6 @@ func OpenInput(ctx context.Context, path string) (*os.File, error) {
 // cannot be written: an existing directory, or a name whose directory does
 // not exist. Errors are BadInput (exit code 2).
 func CheckOutputPath(path string) error {
-	if path == "" {
-		return BadInput("no output path given")
-	}
 	if fi, err := os.Stat(path); err == nil && fi.IsDir() {
 		return BadInput("output %s: is a directory", path)
 	}

@@ -312,6 +312,34 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		}
 		return stop, rel, captured
 	}
+	// residuals is the residual block K u_j - theta_j u_j of the top width
+	// pairs, orthonormalized against U (the Krylov block of the next pass).
+	residuals := func(width int) (*mat.Dense, error) {
+		r := mat.NewDense(n, width, nil)
+		for i := 0; i < n; i++ {
+			ur, ar, rr := u.RawRowView(i), au.RawRowView(i), r.RawRowView(i)
+			for j := range rr {
+				rr[j] = ar[j] - theta[j]*ur[j]
+			}
+		}
+		refill := rand.New(rand.NewPCG(opt.Seed, uint64(st.Pass)+1))
+		if err := orthonormalizeWith(r, nil, &orthOpts{against: u, refill: refill}); err != nil {
+			return nil, fmt.Errorf("solve: pass %d: %w", st.Pass+1, err)
+		}
+		return r, nil
+	}
+	// extended is the state after a pass that extended the basis to u,
+	// au, theta (fast says the iteration goes on fast; fastPass that the
+	// pass itself was one).
+	extended := func(u, au *mat.Dense, theta []float64, captured float64, fast, fastPass bool) *State {
+		next := &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
+			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
+			PrevCaptured: captured, Fast: fast, FastPasses: st.FastPasses}
+		if fastPass {
+			next.FastPasses++
+		}
+		return next
+	}
 	for {
 		stop, rel, captured := test(u, au, theta, st.Fast, st.Pass, prevVar)
 		if w := st.refineWidth(); stop == "" && st.L >= n && (st.Fast || w == 0 || w == st.L) {
@@ -400,46 +428,34 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		closing := st.Pass+1 >= opt.MaxPasses
-		switch {
-		case !st.Fast:
-			closing = false
-		case opt.closeAt != nil:
-			closing = closing || opt.closeAt(st.Pass+1)
-		default:
-			closing = closing || predictLast(st, theta, rel, captured, st.PrevCaptured, opt)
+		closing := st.Fast && st.Pass+1 >= opt.MaxPasses
+		if st.Fast && !closing {
+			if opt.closeAt != nil {
+				closing = opt.closeAt(st.Pass + 1)
+			} else {
+				closing = predictLast(st, theta, rel, captured, opt)
+			}
 		}
 		if closing {
 			// Closing pass: the next pass is expected to be the last (or is
 			// the last allowed), so it is exact and takes the wanted Ritz
 			// vectors along with the next Krylov block, C = [U_K R_c]
 			// (R_c the residuals of the top c = w-K pairs, w =
-			// closingWidth): one pass instead of a fast one and then a
-			// refinement, whose fixed costs (reading, decoding, the
-			// per-byte table work) are most of a narrow pass. Rayleigh-Ritz
-			// on span C with exact images gives float64 pairs; if the tests
-			// pass on them the run ends there, as after a refinement.
-			// Otherwise the pass still extends the basis: Rayleigh-Ritz on
-			// [U R_c] (U's first K images now exact, the others fast) and
-			// fast passes go on.
-			// R_c as wide as the samples the basis leaves allow.
+			// closingWidth, as wide as the samples the basis leaves allow):
+			// one pass instead of a fast one and then a refinement, whose
+			// fixed costs (reading, decoding, the per-byte table work) are
+			// most of a narrow pass. The tests read [U R_c] first, then
+			// span C's exact pairs (below); the run ends on span C if both
+			// pass, else it goes on from [U R_c] with fast passes.
 			c := min(closingWidth(opt.K, l, b)-opt.K, n-st.L)
 			w := opt.K + c
+			rc, err := residuals(c)
+			if err != nil {
+				return nil, err
+			}
 			in := make([]float64, n*w)
-			rc := mat.NewDense(n, c, nil)
 			for i := 0; i < n; i++ {
-				ur, ar := u.RawRowView(i), au.RawRowView(i)
-				copy(in[i*w:i*w+opt.K], ur[:opt.K])
-				rr := rc.RawRowView(i)
-				for j := range rr {
-					rr[j] = ar[j] - theta[j]*ur[j]
-				}
-			}
-			refill := rand.New(rand.NewPCG(opt.Seed, uint64(st.Pass)+1))
-			if err := orthonormalizeWith(rc, nil, &orthOpts{against: u, refill: refill}); err != nil {
-				return nil, fmt.Errorf("solve: pass %d: %w", st.Pass+1, err)
-			}
-			for i := 0; i < n; i++ {
+				copy(in[i*w:i*w+opt.K], u.RawRowView(i)[:opt.K])
 				copy(in[i*w+opt.K:(i+1)*w], rc.RawRowView(i))
 			}
 			y := make([]float64, n*w)
@@ -500,10 +516,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 			in = nil
 			u, au, theta = uf, auf, thf
 			prevVar = captured
-			next := &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
-				Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
-				PrevCaptured: captured, Fast: true, FastPasses: st.FastPasses}
-			if err := done(next); err != nil {
+			if err := done(extended(u, au, theta, captured, true, false)); err != nil {
 				return nil, err
 			}
 			continue
@@ -511,16 +524,9 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		// Residual block of the top b pairs (as many as the samples the
 		// basis leaves allow), orthonormalized against U.
 		b := min(b, n-st.L)
-		r := mat.NewDense(n, b, nil)
-		for i := 0; i < n; i++ {
-			ur, ar, rr := u.RawRowView(i), au.RawRowView(i), r.RawRowView(i)
-			for j := range rr {
-				rr[j] = ar[j] - theta[j]*ur[j]
-			}
-		}
-		refill := rand.New(rand.NewPCG(opt.Seed, uint64(st.Pass)+1))
-		if err := orthonormalizeWith(r, nil, &orthOpts{against: u, refill: refill}); err != nil {
-			return nil, fmt.Errorf("solve: pass %d: %w", st.Pass+1, err)
+		r, err := residuals(b)
+		if err != nil {
+			return nil, err
 		}
 		ar := make([]float64, n*b)
 		if err := apply(st.Fast)(ctx, r.RawMatrix().Data, ar, b); err != nil {
@@ -528,13 +534,7 @@ func Solve(ctx context.Context, a Applier, opt SolveOptions) (*Result, error) {
 		}
 		arm := mat.NewDense(n, b, ar)
 		u, au, theta, _ = rayleighRitz([]*mat.Dense{u, r}, []*mat.Dense{au, arm}, l, th)
-		next := &State{Pass: st.Pass + 1, L: len(theta), N: n, U: u.RawMatrix().Data, AU: au.RawMatrix().Data,
-			Theta: theta, TraceSqEst: st.TraceSqEst, History: append(st.History, relResiduals(u, au, theta, opt.K)),
-			PrevCaptured: captured, Fast: st.Fast, FastPasses: st.FastPasses}
-		if next.Fast {
-			next.FastPasses++
-		}
-		if err := done(next); err != nil {
+		if err := done(extended(u, au, theta, captured, st.Fast, st.Fast)); err != nil {
 			return nil, err
 		}
 	}
@@ -589,7 +589,8 @@ func closingWidth(k, l, b int) int {
 
 // predictLast says whether the stopping tests are expected to pass after
 // one more pass from the fast state st (pairs theta with relative
-// residuals rel, captured variance captured, prevVar the pass before's):
+// residuals rel, captured variance captured; st.PrevCaptured the pass
+// before's):
 // then that pass is a closing one. Both tests are extrapolated one pass:
 //   - the change in captured variance: adding the residual directions
 //     raises each Ritz value by about rho_j^2 / (theta_j - alpha), rho_j =
@@ -609,7 +610,8 @@ func closingWidth(k, l, b int) int {
 // wrongly, for 0.95x the passes' cost in all. A wrong guess costs the
 // difference between an exact pass of width w and a fast one of b, and
 // still extends the basis.
-func predictLast(st *State, theta, rel []float64, captured, prevVar float64, opt SolveOptions) bool {
+func predictLast(st *State, theta, rel []float64, captured float64, opt SolveOptions) bool {
+	prevVar := st.PrevCaptured
 	if st.Pass < 2 || len(st.History) < 2 || math.IsNaN(prevVar) || captured <= 0 {
 		return false
 	}
