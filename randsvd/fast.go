@@ -73,7 +73,7 @@ func gather32TileGeneric(dst []float64, tab []float32, raw []byte, offs []int32,
 // firstTiles runs the first product's tiles of one sample segment into
 // part (float64 rows of lp, one per marker): float64 tables, or float32
 // ones in a fast pass.
-func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs []int32, sg, t int) {
+func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, rows rowSet, sg, t int) {
 	lp, n, segs := ws.lp, op.n, op.segs
 	start, end := segs[sg]/4, (segs[sg+1]+3)/4
 	if ws.fast {
@@ -84,7 +84,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 			for u := 0; u < nt; u++ {
 				buildTable32(tab[u*256*lp:(u+1)*256*lp], ws.x32, nil, ws.scratch32[t*lp:(t+1)*lp], g+u, n, lp)
 			}
-			gather32Tile(part, tab, raw, offs, g, nt, 1, lp)
+			gather32Tile(part, tab, raw, rows, g, nt, 1, lp)
 		}
 		return
 	}
@@ -95,7 +95,7 @@ func (op *Operator) firstTiles(ws *workspace, part []float64, raw []byte, offs [
 		for u := 0; u < nt; u++ {
 			buildTable(tab[u*256*lp:(u+1)*256*lp], ws.x, nil, ws.scratch[t*lp:(t+1)*lp], g+u, n, lp)
 		}
-		gatherTile(part, tab, raw, offs, g, nt, 1, lp)
+		gatherTile(part, tab, raw, rows, g, nt, 1, lp)
 	}
 }
 
@@ -117,7 +117,7 @@ func (op *Operator) secondTiles(ws *workspace, dst []float64, raw []byte, offs [
 	pa, pb := a/4, (b+3)/4
 	tb := ws.tbuf[t]
 	ng := ws.secondTile()
-	toffs := ws.toffs[:b-a]
+	toffs := ws.toffs.prefix(b - a)
 	dst = dst[a*lp : b*lp]
 	for g := g0; g < g1; g += ng {
 		nt := min(ng, g1-g)

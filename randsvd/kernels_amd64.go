@@ -145,12 +145,13 @@ var gatherTilesZ = [5][2]tileKernel{{}, {gatherTileZ1V0, gatherTileZ1V1}, {gathe
 
 // gatherTile: for each row q, dst[q] += tab_t[raw[offs[q]+g+t*stride]]
 // for t = 0..ng-1 in that order (tab_t = tab[t*256*lp:]).
-func gatherTile(dst, tab []float64, raw []byte, offs []int32, g, ng, stride, lp int) {
+func gatherTile(dst, tab []float64, raw []byte, rows rowSet, g, ng, stride, lp int) {
+	offs := rows.offs
 	if !useAVX2 || len(offs) == 0 || ng == 0 || lp == 0 {
 		gatherTileGeneric(dst, tab, raw, offs, g, ng, stride, lp)
 		return
 	}
-	checkKernel(len(dst), len(tab), len(raw), offs, g, ng, stride, lp)
+	checkKernel(len(dst), len(tab), len(raw), rows, g, ng, stride, lp)
 	for c0 := 0; c0 < lp; c0 += 32 {
 		w := min(32, lp-c0)
 		if useAVX512 && w >= 8 {
@@ -163,19 +164,13 @@ func gatherTile(dst, tab []float64, raw []byte, offs []int32, g, ng, stride, lp 
 
 // checkKernel guards the assembly against out-of-range arguments (a
 // programmer error): the rows, the ng 256-row tables and every byte the
-// offsets address must lie inside their slices. The second product's
-// offsets (transposedOffset) are not ascending, so all of them are
-// bounded (a scan of one int32 per row, against ng table rows added per
-// row by the kernel).
-func checkKernel(rowsLen, tabLen, rawLen int, offs []int32, g, ng, stride, lp int) {
-	if lp%4 != 0 || rowsLen < len(offs)*lp || tabLen < ng*256*lp || stride < 1 {
+// offsets address must lie inside their slices. The offsets' range comes
+// with them (rowSet), found once per block rather than at every call.
+func checkKernel(rowsLen, tabLen, rawLen int, rows rowSet, g, ng, stride, lp int) {
+	if lp%4 != 0 || rowsLen < len(rows.offs)*lp || tabLen < ng*256*lp || stride < 1 {
 		panic("randsvd: kernel shape out of range")
 	}
-	lo, hi := offs[0], offs[0]
-	for _, o := range offs {
-		lo, hi = min(lo, o), max(hi, o)
-	}
-	if int(lo)+g < 0 || int(hi)+g+(ng-1)*stride >= rawLen {
+	if int(rows.lo)+g < 0 || int(rows.hi)+g+(ng-1)*stride >= rawLen {
 		panic("randsvd: kernel offsets out of range")
 	}
 }
@@ -256,12 +251,13 @@ var gather32Z1Kernels = [2][2]func(dst *float64, tab *float32, raw *byte, offs *
 // gather32Tile: for each row q, the float32 sum over t = 0..ng-1 (in that
 // order, from zero) of tab_t[raw[offs[q]+g+t*stride]] is widened and added
 // to the float64 row dst[q]. lp is a multiple of 4.
-func gather32Tile(dst []float64, tab []float32, raw []byte, offs []int32, g, ng, stride, lp int) {
+func gather32Tile(dst []float64, tab []float32, raw []byte, rows rowSet, g, ng, stride, lp int) {
+	offs := rows.offs
 	if !useAVX2 || len(offs) == 0 || ng == 0 || lp == 0 {
 		gather32TileGeneric(dst, tab, raw, offs, g, ng, stride, lp)
 		return
 	}
-	checkKernel(len(dst), len(tab), len(raw), offs, g, ng, stride, lp)
+	checkKernel(len(dst), len(tab), len(raw), rows, g, ng, stride, lp)
 	for c0 := 0; c0 < lp; c0 += 32 {
 		w := min(32, lp-c0)
 		switch {

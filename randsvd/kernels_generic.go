@@ -5,8 +5,8 @@ package randsvd
 // useAVX2 is false off amd64: the portable kernels run.
 const useAVX2 = false
 
-func gatherTile(dst, tab []float64, raw []byte, offs []int32, g, ng, stride, lp int) {
-	gatherTileGeneric(dst, tab, raw, offs, g, ng, stride, lp)
+func gatherTile(dst, tab []float64, raw []byte, rows rowSet, g, ng, stride, lp int) {
+	gatherTileGeneric(dst, tab, raw, rows.offs, g, ng, stride, lp)
 }
 
 func addRows(dst, src, v []float64, rows, lp int) {
@@ -15,8 +15,8 @@ func addRows(dst, src, v []float64, rows, lp int) {
 
 func sumRows(dst, x []float64, idx []int32, lp int) { sumRowsGeneric(dst, x, idx, lp) }
 
-func gather32Tile(dst []float64, tab []float32, raw []byte, offs []int32, g, ng, stride, lp int) {
-	gather32TileGeneric(dst, tab, raw, offs, g, ng, stride, lp)
+func gather32Tile(dst []float64, tab []float32, raw []byte, rows rowSet, g, ng, stride, lp int) {
+	gather32TileGeneric(dst, tab, raw, rows.offs, g, ng, stride, lp)
 }
 
 func addRows32(dst, src, v []float32, rows, lp int) { addRows32Generic(dst, src, v, rows, lp) }

@@ -63,11 +63,11 @@ func TestKernelsMatchGeneric(t *testing.T) {
 			outLen     int
 		}
 		ks := []kern{
-			{"gatherTile", func(a []float64) { gatherTile(a, tab, raw, offs, g, ng, stride, lp) }, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, stride, lp) }, nq * lp},
+			{"gatherTile", func(a []float64) { gatherTile(a, tab, raw, newRowSet(offs), g, ng, stride, lp) }, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, stride, lp) }, nq * lp},
 			{"gatherTile/AVX2", func(a []float64) {
 				defer func(z bool) { useAVX512 = z }(useAVX512)
 				useAVX512 = false
-				gatherTile(a, tab, raw, offs, g, ng, stride, lp)
+				gatherTile(a, tab, raw, newRowSet(offs), g, ng, stride, lp)
 			}, func(a []float64) { gatherTileGeneric(a, tab, raw, offs, g, ng, stride, lp) }, nq * lp},
 		}
 		// Index lists as the missing-call kernels see them: ascending
@@ -108,11 +108,11 @@ func TestKernelsMatchGeneric(t *testing.T) {
 		// The AVX-512 kernels where the machine has them, and the AVX2 ones
 		// they replace there.
 		ks = append(ks,
-			kern{"gather32Tile", func(a []float64) { gather32Tile(a, tab32, raw, offs, g, ng, stride, lp32) }, func(a []float64) { gather32TileGeneric(a, tab32, raw, offs, g, ng, stride, lp32) }, nq * lp32},
+			kern{"gather32Tile", func(a []float64) { gather32Tile(a, tab32, raw, newRowSet(offs), g, ng, stride, lp32) }, func(a []float64) { gather32TileGeneric(a, tab32, raw, offs, g, ng, stride, lp32) }, nq * lp32},
 			kern{"gather32Tile/AVX2", func(a []float64) {
 				defer func(z bool) { useAVX512 = z }(useAVX512)
 				useAVX512 = false
-				gather32Tile(a, tab32, raw, offs, g, ng, stride, lp32)
+				gather32Tile(a, tab32, raw, newRowSet(offs), g, ng, stride, lp32)
 			}, func(a []float64) { gather32TileGeneric(a, tab32, raw, offs, g, ng, stride, lp32) }, nq * lp32},
 		)
 		// addRows32 writes float32 rows.
@@ -299,6 +299,52 @@ func TestTransposeTile(t *testing.T) {
 				if got := tb[u*stride+int(transposedOffset(q))]; got != want {
 					t.Fatalf("trial %d (nb %d, bytes [%d,%d)): group %d sample %d: %08b, want %08b", trial, nb, pa, pb, g+u, q, got, want)
 				}
+			}
+		}
+	}
+}
+
+// TestGatherBoundsGuard: the vector gathers refuse offsets whose bytes lie
+// outside the block (checkKernel, on the range a rowSet carries), at
+// either end, and accept the last byte exactly. The rule is the slices'
+// own (common practice, no source): an index must be below the length.
+func TestGatherBoundsGuard(t *testing.T) {
+	if !useAVX2 {
+		t.Skip("portable kernels: Go's own bounds checks apply")
+	}
+	const lp, ng, stride = 4, 2, 8
+	raw := make([]byte, 64)
+	tab := make([]float64, ng*256*lp)
+	tab32 := make([]float32, ng*256*lp)
+	cases := []struct {
+		name  string
+		offs  []int32
+		g     int
+		panic bool
+	}{
+		{"inside", []int32{0, 40, 7}, 0, false},
+		{"last byte", []int32{3, 55}, 0, false},         // 55 + 8 = 63
+		{"past the end", []int32{3, 56, 1}, 0, true},    // 56 + 8 = 64
+		{"past the end via g", []int32{0, 50}, 6, true}, // 56 + 8
+		{"before the start", []int32{5, -1}, 0, true},
+	}
+	for _, c := range cases {
+		for _, k := range []struct {
+			name string
+			run  func()
+		}{
+			{"float64", func() { gatherTile(make([]float64, len(c.offs)*lp), tab, raw, newRowSet(c.offs), c.g, ng, stride, lp) }},
+			{"float32", func() {
+				gather32Tile(make([]float64, len(c.offs)*lp), tab32, raw, newRowSet(c.offs), c.g, ng, stride, lp)
+			}},
+		} {
+			var got any
+			func() {
+				defer func() { got = recover() }()
+				k.run()
+			}()
+			if (got != nil) != c.panic {
+				t.Errorf("%s/%s: panic %v, want a panic: %v", c.name, k.name, got, c.panic)
 			}
 		}
 	}

@@ -353,7 +353,7 @@ type workspace struct {
 	tabs      [][]float64
 	tbuf      [][]byte    // per thread: a tile of the block transposed (transposeTile)
 	tspare    [][]byte    // the tiles of the last width, for secondBuffers
-	toffs     []int32     // each sample's offset in a transposed row (transposedOffset)
+	toffs     rowSet      // each sample's offset in a transposed row (transposedOffset)
 	tstride   int         // bytes per transposed row (one group of markers)
 	jobs2     []int       // second-product sample jobs: segment boundaries (secondJob)
 	parts2    int         // second-product marker parts (secondParts)
@@ -366,6 +366,7 @@ type workspace struct {
 	pool      chan int    // the pass's helper goroutines (nil: run in the caller)
 	run       jobRun      // the job they are running
 	offs      []int32     // row offsets of the block being processed
+	rows      rowSet      // offs with its range (the first product's gathers)
 	err       error       // first error of a MarkerProducts callback
 	capture   *stash      // set during applyCapture: W rows go there too
 }
@@ -570,10 +571,11 @@ func (op *Operator) secondBuffers(ws *workspace) {
 	}
 	ws.tspare = nil
 	ws.tstride = rows
-	ws.toffs = make([]int32, rows)
-	for q := range ws.toffs {
-		ws.toffs[q] = transposedOffset(q)
+	toffs := make([]int32, rows)
+	for q := range toffs {
+		toffs[q] = transposedOffset(q)
 	}
+	ws.toffs = newRowSet(toffs)
 }
 
 // Apply computes Y = K X for X with Dim() rows and l columns (row-major,

@@ -13,6 +13,7 @@ func BenchmarkTiles(b *testing.B) {
 	const nb, rb, lp = 2048, 1250, 20
 	r := rand.New(rand.NewPCG(3, 3))
 	raw, offs := benchBlock(r, nb, rb, 0.3)
+	set := newRowSet(offs)
 	rows := make([]float64, nb*lp)
 	for _, ng := range []int{4, 8} {
 		tab := make([]float64, ng*256*lp)
@@ -22,7 +23,7 @@ func BenchmarkTiles(b *testing.B) {
 		b.Run(fmt.Sprintf("gather/ng=%d", ng), func(b *testing.B) {
 			for i := 0; i < b.N; i++ {
 				for g := 0; g+ng <= rb; g += ng {
-					gatherTile(rows, tab, raw, offs, g, ng, 1, lp)
+					gatherTile(rows, tab, raw, set, g, ng, 1, lp)
 				}
 			}
 			sec := b.Elapsed().Seconds() / float64(b.N)
@@ -38,6 +39,7 @@ func BenchmarkTiles32(b *testing.B) {
 	const nb, rb, lp = 2048, 1250, 20
 	r := rand.New(rand.NewPCG(3, 3))
 	raw, offs := benchBlock(r, nb, rb, 0.3)
+	set := newRowSet(offs)
 	rows := make([]float64, nb*lp)
 	for _, ng := range []int{8, 16} {
 		tab := make([]float32, ng*256*lp)
@@ -53,7 +55,7 @@ func BenchmarkTiles32(b *testing.B) {
 				useAVX512 = z
 				for i := 0; i < b.N; i++ {
 					for g := 0; g+ng <= rb; g += ng {
-						gather32Tile(rows, tab, raw, offs, g, ng, 1, lp)
+						gather32Tile(rows, tab, raw, set, g, ng, 1, lp)
 					}
 				}
 				sec := b.Elapsed().Seconds() / float64(b.N)
@@ -88,6 +90,7 @@ func BenchmarkSecondProduct(b *testing.B) {
 		for q := range toffs {
 			toffs[q] = transposedOffset(q)
 		}
+		tset := newRowSet(toffs)
 		y := make([]float64, ns*lp)
 		b.Run(fmt.Sprintf("p=%v", p), func(b *testing.B) {
 			for i := 0; i < b.N; i++ {
@@ -97,7 +100,7 @@ func BenchmarkSecondProduct(b *testing.B) {
 					for u := 0; u < nt; u++ {
 						buildTable32(tab[u*256*lp:(u+1)*256*lp], wpp, wpp, scratch, g+u, nb, lp)
 					}
-					gather32Tile(y, tab, tb, toffs, 0, nt, ns, lp)
+					gather32Tile(y, tab, tb, tset, 0, nt, ns, lp)
 				}
 			}
 			sec := b.Elapsed().Seconds() / float64(b.N)
