@@ -35,7 +35,7 @@ type LinePlot struct {
 // WriteLinePlot writes the plot as BASE.svg and BASE.png, atomically; if
 // the second write fails the first file is removed.
 func WriteLinePlot(base string, lp *LinePlot) error {
-	p := plot.New()
+	p := newPlot()
 	sans(p)
 	p.Title.Text = lp.Title
 	p.X.Label.Text = lp.XLabel
