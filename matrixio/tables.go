@@ -129,7 +129,7 @@ type LoadingsWriter struct {
 	a   *AtomicFile
 	fw  *bufio.Writer // the compressed stream
 	gz  *bgzfWriter
-	num []byte        // a row's numbers, formatted (reused)
+	num []byte        // a row, formatted (reused)
 	bw  *bufio.Writer // the text
 }
 
@@ -183,32 +183,41 @@ func CreateLoadingsThreads(path string, k, threads int) (*LoadingsWriter, error)
 // Write adds one marker: the counted allele is ALT, freq its frequency
 // over the kept samples, scale the divisor of the standardization.
 func (lw *LoadingsWriter) Write(m Marker, freq, scale float64, v []float64) error {
-	b := lw.bw
-	b.WriteString(m.Chrom)
-	b.WriteByte('\t')
-	lw.num = strconv.AppendInt(lw.num[:0], m.Pos, 10)
-	b.Write(lw.num)
-	b.WriteByte('\t')
-	b.WriteString(m.ID)
-	b.WriteByte('\t')
-	b.WriteString(m.Ref)
-	b.WriteByte('\t')
-	b.WriteString(m.Alt)
-	b.WriteByte('\t')
-	b.WriteString(m.Alt)
-	b.WriteByte('\t')
-	// Numbers are formatted into one reused buffer (FormatFloat's digits,
-	// without a string per value).
-	t := appendFloat(lw.num[:0], freq)
-	t = append(t, '\t')
-	t = appendFloat(t, scale)
+	lw.num = AppendLoadingsRow(lw.num[:0], m, freq, scale, v)
+	_, err := lw.bw.Write(lw.num)
+	return err
+}
+
+// AppendLoadingsRow appends to dst the line Write writes for m (newline
+// included). Formatting, most of the work of a loadings file (the
+// shortest forms of twelve float64 values a marker), can so be spread
+// over goroutines, the lines then written in order with WriteRows.
+func AppendLoadingsRow(dst []byte, m Marker, freq, scale float64, v []float64) []byte {
+	dst = append(dst, m.Chrom...)
+	dst = append(dst, '\t')
+	dst = strconv.AppendInt(dst, m.Pos, 10)
+	dst = append(dst, '\t')
+	dst = append(dst, m.ID...)
+	dst = append(dst, '\t')
+	dst = append(dst, m.Ref...)
+	dst = append(dst, '\t')
+	dst = append(dst, m.Alt...)
+	dst = append(dst, '\t')
+	dst = append(dst, m.Alt...)
+	dst = append(dst, '\t')
+	dst = appendFloat(dst, freq)
+	dst = append(dst, '\t')
+	dst = appendFloat(dst, scale)
 	for _, x := range v {
-		t = append(t, '\t')
-		t = appendFloat(t, x)
+		dst = append(dst, '\t')
+		dst = appendFloat(dst, x)
 	}
-	t = append(t, '\n')
-	lw.num = t
-	_, err := b.Write(t)
+	return append(dst, '\n')
+}
+
+// WriteRows writes lines made by AppendLoadingsRow.
+func (lw *LoadingsWriter) WriteRows(p []byte) error {
+	_, err := lw.bw.Write(p)
 	return err
 }
 

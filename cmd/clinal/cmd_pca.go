@@ -16,6 +16,7 @@ import (
 	"runtime/debug"
 	"strconv"
 	"strings"
+	"sync"
 	"syscall"
 	"time"
 
@@ -518,28 +519,46 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 		return err
 	}
 	center, inv := op.Standardization()
-	// Formatting and compressing the rows is serial work: a writer
-	// goroutine does it while the operator computes the next block. Rows
-	// go over in batches (at most four in flight, so memory stays bounded).
+	// Rows go over in batches (at most five exist, so memory stays
+	// bounded): formatters turn each into text (the shortest forms of its
+	// numbers, most of the work) while the operator computes the next
+	// ones, and a writer hands the texts to the compressing writer in
+	// batch order (each batch waits for its text in the queue).
 	k := len(res.Eigenvalues)
 	const batchRows = 1024
 	type batch struct {
 		ords []int
 		vals []float64
+		text []byte
+		done chan struct{} // the text is ready
 	}
-	batches := make(chan *batch, 4)
-	free := make(chan *batch, 5)
-	for range 5 {
-		free <- &batch{ords: make([]int, 0, batchRows), vals: make([]float64, 0, batchRows*k)}
+	const batches = 5
+	free := make(chan *batch, batches)
+	for range batches {
+		free <- &batch{ords: make([]int, 0, batchRows), vals: make([]float64, 0, batchRows*k), done: make(chan struct{}, 1)}
+	}
+	work, queue := make(chan *batch, batches), make(chan *batch, batches)
+	var fwg sync.WaitGroup
+	for range max(1, min(threads, 4)) {
+		fwg.Add(1)
+		go func() {
+			defer fwg.Done()
+			for b := range work {
+				b.text = b.text[:0]
+				for r, ord := range b.ords {
+					b.text = matrixio.AppendLoadingsRow(b.text, st.Marker(op.KeptMarker(ord)), center[ord]/2, 1/inv[ord], b.vals[r*k:(r+1)*k])
+				}
+				b.done <- struct{}{}
+			}
+		}()
 	}
 	werr := make(chan error, 1)
 	go func() {
 		var err error
-		for b := range batches {
-			for r, ord := range b.ords {
-				if err == nil {
-					err = lw.Write(st.Marker(op.KeptMarker(ord)), center[ord]/2, 1/inv[ord], b.vals[r*k:(r+1)*k])
-				}
+		for b := range queue {
+			<-b.done
+			if err == nil {
+				err = lw.WriteRows(b.text)
 			}
 			free <- b
 		}
@@ -547,7 +566,8 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 	}()
 	cur := <-free
 	send := func() {
-		batches <- cur
+		queue <- cur
+		work <- cur
 		cur = <-free
 		cur.ords, cur.vals = cur.ords[:0], cur.vals[:0]
 	}
@@ -562,7 +582,9 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 	if err == nil && len(cur.ords) > 0 {
 		send()
 	}
-	close(batches)
+	close(work)
+	close(queue)
+	fwg.Wait()
 	if e := <-werr; err == nil {
 		err = e
 	}
