@@ -10,6 +10,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
 )
 
 // discs draws a scatter's points without offering their glyph boxes:
@@ -19,7 +20,10 @@ import (
 // same figure) from four points. On a PNG canvas the discs and rings are
 // stamped straight into the image (stampGlyphs): the vector path of each
 // one through the rasterizer was most of a scatter figure's time.
-type discs struct{ s *plotter.Scatter }
+type discs struct {
+	s   *plotter.Scatter
+	svg *svgDiscs // where the SVG canvas's discs go (nil: gonum draws them)
+}
 
 func (d discs) Plot(c draw.Canvas, p *plot.Plot) {
 	// gonum wraps the canvas in draw.Canvas values (its padding does).
@@ -31,11 +35,23 @@ func (d discs) Plot(c draw.Canvas, p *plot.Plot) {
 		}
 		v = w.Canvas
 	}
-	if ic, ok := v.(*vgimg.Canvas); ok {
-		if img, ok := ic.Image().(*image.RGBA); ok {
+	switch vc := v.(type) {
+	case *vgimg.Canvas:
+		if img, ok := vc.Image().(*image.RGBA); ok {
 			trX, trY := p.Transforms(&c)
-			stampGlyphs(img, ic.DPI(), d.s.XYs, trX, trY, d.s.GlyphStyle)
+			stampGlyphs(img, vc.DPI(), d.s.XYs, trX, trY, d.s.GlyphStyle)
 			return
+		}
+	case *vgsvg.Canvas:
+		if d.svg != nil && d.s.GlyphStyleFunc == nil {
+			trX, trY := p.Transforms(&c)
+			pts := make([]vg.Point, len(d.s.XYs))
+			for i, xy := range d.s.XYs {
+				pts[i] = vg.Point{X: trX(xy.X), Y: trY(xy.Y)}
+			}
+			if d.svg.draw(c, d.s.GlyphStyle, pts) {
+				return
+			}
 		}
 	}
 	d.s.Plot(c, p)

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"bytes"
 	"image"
 	"image/color"
 	"math/rand/v2"
@@ -11,6 +12,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
 )
 
 // TestStampGlyphsMatchGonum draws the same scatter of discs and of rings
@@ -35,7 +37,7 @@ func TestStampGlyphsMatchGonum(t *testing.T) {
 			}
 			s.GlyphStyle = draw.GlyphStyle{Color: color.NRGBA{0x20, 0x60, 0xc0, 0xff}, Radius: markRadius, Shape: shape}
 			if stamp {
-				p.Add(discs{s})
+				p.Add(discs{s: s})
 			} else {
 				p.Add(s)
 			}
@@ -57,5 +59,70 @@ func TestStampGlyphsMatchGonum(t *testing.T) {
 			t.Errorf("%T: pixels differ from gonum's by up to %d of 255, %.3f on average (want at most 48 and 1)", shape, worst, mean)
 		}
 		t.Logf("%T: pixels differ from gonum's by up to %d of 255, %.3f on average", shape, worst, mean)
+	}
+}
+
+// TestSVGDiscsMatchGonum: the SVG discs clinal writes itself (svgDiscs)
+// are gonum's own output byte for byte (the reference is gonum's vgsvg
+// drawing the same plotter.Scatter): filled discs and rings, several
+// groups in drawing order, points on the canvas edge and beyond it (which
+// gonum leaves out), a group wholly outside, and an empty one.
+func TestSVGDiscsMatchGonum(t *testing.T) {
+	groups := []struct {
+		shape draw.GlyphDrawer
+		col   color.Color
+		n     int
+		span  float64
+	}{
+		{draw.CircleGlyph{}, color.NRGBA{0x4B, 0x0F, 0xE1, 0xFF}, 400, 3},
+		{draw.RingGlyph{}, Unlabelled(), 200, 5}, // partly beyond the axes
+		{draw.CircleGlyph{}, color.NRGBA{0xE1, 0x6A, 0x0F, 0xFF}, 300, 2},
+		{draw.CircleGlyph{}, color.NRGBA{0x10, 0x80, 0x10, 0xFF}, 0, 1},
+	}
+	draws := func(fast bool) []byte {
+		p := plot.New()
+		var sd svgDiscs
+		rr := rand.New(rand.NewPCG(8, 2))
+		for _, g := range groups {
+			pts := make(plotter.XYs, g.n)
+			for i := range pts {
+				pts[i] = plotter.XY{X: g.span * rr.NormFloat64(), Y: g.span * rr.NormFloat64()}
+			}
+			pts = append(pts, plotter.XY{X: 4, Y: -4}, plotter.XY{X: 40, Y: 0})
+			s, err := plotter.NewScatter(pts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			s.GlyphStyle = draw.GlyphStyle{Color: g.col, Radius: markRadius, Shape: g.shape}
+			d := discs{s: s}
+			if fast {
+				d.svg = &sd
+			}
+			p.Add(d)
+		}
+		p.Add(plotter.NewFunction(func(x float64) float64 { return x / 2 })) // drawn after, in the canvas's colour state
+		p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = -4, 4, -4, 4
+		sc := vgsvg.New(4*vg.Inch, 3*vg.Inch)
+		p.Draw(draw.New(sc))
+		var b bytes.Buffer
+		if _, err := sc.WriteTo(&b); err != nil {
+			t.Fatal(err)
+		}
+		return sd.fill(b.Bytes())
+	}
+	want, got := draws(false), draws(true)
+	if !bytes.Equal(got, want) {
+		i := 0
+		for i < len(got) && i < len(want) && got[i] == want[i] {
+			i++
+		}
+		lo := max(0, i-80)
+		t.Fatalf("SVG differs from gonum's at byte %d:\n got %q\nwant %q", i, got[lo:min(len(got), i+80)], want[lo:min(len(want), i+80)])
+	}
+	if n := bytes.Count(got, []byte("<path")); n < 500 {
+		t.Errorf("%d paths: the discs were not drawn", n)
+	}
+	if bytes.Contains(got, []byte("NaN")) {
+		t.Error("a placeholder is left in the SVG")
 	}
 }

@@ -248,6 +248,7 @@ func scatterFigure(in *PCAInput, gs groupSet, show []int, a, b int, key string) 
 		pts[g] = append(pts[g], plotter.XY{X: x, Y: y})
 		xs, ys = append(xs, x), append(ys, y)
 	}
+	var sd svgDiscs
 	leg := plot.NewLegend()
 	leg.TextStyle.Font.Variant = "Sans"
 	leg.Top, leg.Left = true, true
@@ -263,7 +264,7 @@ func scatterFigure(in *PCAInput, gs groupSet, show []int, a, b int, key string) 
 			if hollow {
 				s.GlyphStyle.Shape = draw.RingGlyph{}
 			}
-			p.Add(discs{s})
+			p.Add(discs{s: s, svg: &sd})
 		}
 		if len(gs.names) > 0 {
 			leg.Add(fmt.Sprintf("%s (%d)", gs.names[g], len(pts[g])), swatch{c: col, hollow: hollow})
@@ -289,6 +290,7 @@ func scatterFigure(in *PCAInput, gs groupSet, show []int, a, b int, key string) 
 	if err != nil {
 		return nil, fmt.Errorf("scatter %s: %w", key, err)
 	}
+	svg = sd.fill(svg)
 	return &figure{Key: key, Title: p.Title.Text, SVG: svg, PNG: png}, nil
 }
 
