@@ -133,10 +133,11 @@ type LoadingsWriter struct {
 	bw  *bufio.Writer // the text
 }
 
-// loadingsDeflaters bounds the loadings' compressing goroutines: one
-// goroutine formats the rows, and a few deflaters keep up with it (each
-// holds about 1 MiB of deflate state, within the memory plan's reserve
-// for the runtime).
+// loadingsDeflaters bounds the loadings' compressing goroutines: the
+// rows are formatted on a goroutine or a few (the caller's, see
+// AppendLoadingsRow), and a few deflaters keep up with them (each holds
+// about 1 MiB of deflate state, within the memory plan's reserve for the
+// runtime).
 const loadingsDeflaters = 4
 
 // loadingsLevel is the loadings' deflate level: Huffman coding alone. The

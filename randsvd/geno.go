@@ -220,8 +220,7 @@ func appendMissing(dst []int32, row []byte, n int) []int32 {
 func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	lp, nb := ws.lp, len(sels)
 	ws.raw, ws.sels = raw, sels
-	ws.offs = rowOffsets(sels, op.st.RowBytes(), ws.offs)
-	ws.rows = newRowSet(ws.offs)
+	ws.rows = newRowSet(rowOffsets(sels, op.st.RowBytes(), ws.rows.offs))
 	nseg := len(op.segs) - 1
 	ws.part = grow(ws.part, nseg*nb*lp)
 	ws.w = grow(ws.w, nb*lp)
@@ -375,7 +374,7 @@ func (op *Operator) secondJob(ws *workspace, u, t int) {
 		return
 	}
 	for c := a; c < b; c += secondRange {
-		op.secondTiles(ws, dst, ws.raw, ws.offs, c, min(b, c+secondRange), g0, g1, t)
+		op.secondTiles(ws, dst, ws.raw, ws.rows.offs, c, min(b, c+secondRange), g0, g1, t)
 	}
 }
 

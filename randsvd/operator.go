@@ -365,8 +365,7 @@ type workspace struct {
 	sels      []sel       // its selections
 	pool      chan int    // the pass's helper goroutines (nil: run in the caller)
 	run       jobRun      // the job they are running
-	offs      []int32     // row offsets of the block being processed
-	rows      rowSet      // offs with its range (the first product's gathers)
+	rows      rowSet      // row offsets of the block being processed, with their range
 	err       error       // first error of a MarkerProducts callback
 	capture   *stash      // set during applyCapture: W rows go there too
 }

@@ -66,18 +66,25 @@ func TestStampGlyphsMatchGonum(t *testing.T) {
 // are gonum's own output byte for byte (the reference is gonum's vgsvg
 // drawing the same plotter.Scatter): filled discs and rings, several
 // groups in drawing order, points on the canvas edge and beyond it (which
-// gonum leaves out), a group wholly outside, and an empty one.
+// gonum leaves out), groups wholly outside (a disc group, then a ring
+// group: gonum draws nothing for them), a group with no points, and a line
+// drawn after them all.
 func TestSVGDiscsMatchGonum(t *testing.T) {
-	groups := []struct {
+	type group struct {
 		shape draw.GlyphDrawer
 		col   color.Color
 		n     int
 		span  float64
-	}{
-		{draw.CircleGlyph{}, color.NRGBA{0x4B, 0x0F, 0xE1, 0xFF}, 400, 3},
-		{draw.RingGlyph{}, Unlabelled(), 200, 5}, // partly beyond the axes
-		{draw.CircleGlyph{}, color.NRGBA{0xE1, 0x6A, 0x0F, 0xFF}, 300, 2},
-		{draw.CircleGlyph{}, color.NRGBA{0x10, 0x80, 0x10, 0xFF}, 0, 1},
+		edge  bool // add points on the corner and beyond the canvas
+		away  bool // only points beyond the canvas
+	}
+	groups := []group{
+		{draw.CircleGlyph{}, color.NRGBA{0x4B, 0x0F, 0xE1, 0xFF}, 400, 3, true, false},
+		{draw.RingGlyph{}, Unlabelled(), 200, 5, false, false}, // partly beyond the axes
+		{draw.CircleGlyph{}, color.NRGBA{0xE1, 0x6A, 0x0F, 0xFF}, 300, 2, true, false},
+		{draw.CircleGlyph{}, color.NRGBA{0x10, 0x80, 0x10, 0xFF}, 0, 1, false, true},
+		{draw.RingGlyph{}, color.NRGBA{0x80, 0x10, 0x10, 0xFF}, 0, 1, false, true},
+		{draw.CircleGlyph{}, color.NRGBA{0x10, 0x10, 0x80, 0xFF}, 0, 1, false, false},
 	}
 	draws := func(fast bool) []byte {
 		p := plot.New()
@@ -88,11 +95,13 @@ func TestSVGDiscsMatchGonum(t *testing.T) {
 			for i := range pts {
 				pts[i] = plotter.XY{X: g.span * rr.NormFloat64(), Y: g.span * rr.NormFloat64()}
 			}
-			pts = append(pts, plotter.XY{X: 4, Y: -4}, plotter.XY{X: 40, Y: 0})
-			s, err := plotter.NewScatter(pts)
-			if err != nil {
-				t.Fatal(err)
+			if g.edge {
+				pts = append(pts, plotter.XY{X: 4, Y: -4}, plotter.XY{X: 40, Y: 0})
 			}
+			if g.away {
+				pts = append(pts, plotter.XY{X: 40, Y: 40}, plotter.XY{X: -40, Y: 3})
+			}
+			s := &plotter.Scatter{XYs: pts}
 			s.GlyphStyle = draw.GlyphStyle{Color: g.col, Radius: markRadius, Shape: g.shape}
 			d := discs{s: s}
 			if fast {
@@ -100,7 +109,7 @@ func TestSVGDiscsMatchGonum(t *testing.T) {
 			}
 			p.Add(d)
 		}
-		p.Add(plotter.NewFunction(func(x float64) float64 { return x / 2 })) // drawn after, in the canvas's colour state
+		p.Add(plotter.NewFunction(func(x float64) float64 { return x / 2 }))
 		p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = -4, 4, -4, 4
 		sc := vgsvg.New(4*vg.Inch, 3*vg.Inch)
 		p.Draw(draw.New(sc))
@@ -108,7 +117,11 @@ func TestSVGDiscsMatchGonum(t *testing.T) {
 		if _, err := sc.WriteTo(&b); err != nil {
 			t.Fatal(err)
 		}
-		return sd.fill(b.Bytes())
+		out, err := sd.fill(b.Bytes())
+		if err != nil {
+			t.Fatal(err)
+		}
+		return out
 	}
 	want, got := draws(false), draws(true)
 	if !bytes.Equal(got, want) {
@@ -124,5 +137,10 @@ func TestSVGDiscsMatchGonum(t *testing.T) {
 	}
 	if bytes.Contains(got, []byte("NaN")) {
 		t.Error("a placeholder is left in the SVG")
+	}
+	// An SVG with fewer placeholders than drawn groups is refused.
+	sd := svgDiscs{blocks: [][]byte{[]byte("a"), []byte("b")}}
+	if _, err := sd.fill([]byte(svgPlaceholder + " />\n")); err == nil {
+		t.Error("fill accepted 1 placeholder for 2 groups")
 	}
 }

@@ -290,7 +290,9 @@ func scatterFigure(in *PCAInput, gs groupSet, show []int, a, b int, key string) 
 	if err != nil {
 		return nil, fmt.Errorf("scatter %s: %w", key, err)
 	}
-	svg = sd.fill(svg)
+	if svg, err = sd.fill(svg); err != nil {
+		return nil, fmt.Errorf("scatter %s: %w", key, err)
+	}
 	return &figure{Key: key, Title: p.Title.Text, SVG: svg, PNG: png}, nil
 }
 

@@ -3,7 +3,6 @@ package report
 import (
 	"bufio"
 	"encoding/binary"
-	"fmt"
 	"hash/crc32"
 	"image"
 	"image/png"
@@ -25,6 +24,9 @@ import (
 func writePNG(w io.Writer, img *image.RGBA) error {
 	b := img.Bounds()
 	wd, ht := b.Dx(), b.Dy()
+	if wd <= 0 || ht <= 0 {
+		return png.Encode(w, img) // an empty image has no PNG (image/png says so)
+	}
 	for y := 0; y < ht; y++ {
 		row := img.Pix[y*img.Stride : y*img.Stride+4*wd]
 		for x := 3; x < len(row); x += 4 {
@@ -44,7 +46,7 @@ func writePNG(w io.Writer, img *image.RGBA) error {
 	idat := &chunkWriter{w: bw, typ: "IDAT"}
 	zw, err := zlib.NewWriterLevel(idat, zlib.BestSpeed)
 	if err != nil {
-		return fmt.Errorf("png: %w", err)
+		return err
 	}
 	line := make([]byte, 1+3*wd) // filter byte 0, then R, G, B
 	for y := 0; y < ht; y++ {
@@ -53,18 +55,15 @@ func writePNG(w io.Writer, img *image.RGBA) error {
 			copy(line[1+3*x:4+3*x], row[4*x:4*x+3])
 		}
 		if _, err := zw.Write(line); err != nil {
-			return fmt.Errorf("png: %w", err)
+			return err
 		}
 	}
 	if err := zw.Close(); err != nil {
-		return fmt.Errorf("png: %w", err)
+		return err
 	}
 	idat.flush()
 	writeChunk(bw, "IEND", nil)
-	if err := bw.Flush(); err != nil {
-		return fmt.Errorf("png: %w", err)
-	}
-	return nil
+	return bw.Flush()
 }
 
 // writeChunk writes one PNG chunk: length, type, data, CRC-32 of type

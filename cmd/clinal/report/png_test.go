@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"errors"
 	"image"
 	"image/color"
 	"image/png"
@@ -11,10 +12,10 @@ import (
 
 // TestWritePNG: what writePNG writes decodes, with Go's image/png (an
 // implementation of the W3C PNG specification outside this project), to
-// exactly the pixels written, for opaque images of several sizes (one
-// wider than a 64 KiB IDAT chunk, so the stream spans chunks) and content
-// from flat white to noise; an image with transparent pixels keeps them
-// (image/png writes it).
+// exactly the pixels written, for opaque images of several sizes (noise
+// whose zlib stream spans several 64 KiB IDAT chunks) and content from
+// flat white to noise; an image with transparent pixels keeps them
+// (image/png writes it); a writer that fails makes writePNG fail.
 func TestWritePNG(t *testing.T) {
 	r := rand.New(rand.NewPCG(4, 4))
 	cases := []struct {
@@ -22,19 +23,20 @@ func TestWritePNG(t *testing.T) {
 		w, h   int
 		fill   func(x, y int) color.RGBA
 		opaque bool
+		idats  int // at least this many IDAT chunks
 	}{
-		{"white", 37, 11, func(x, y int) color.RGBA { return color.RGBA{255, 255, 255, 255} }, true},
+		{"white", 37, 11, func(x, y int) color.RGBA { return color.RGBA{255, 255, 255, 255} }, true, 1},
 		{"noise", 640, 480, func(x, y int) color.RGBA {
 			return color.RGBA{uint8(r.Uint32()), uint8(r.Uint32()), uint8(r.Uint32()), 255}
-		}, true},
+		}, true, 10},
 		{"figure-like", 300, 200, func(x, y int) color.RGBA {
 			if (x-150)*(x-150)+(y-100)*(y-100) < 900 {
 				return color.RGBA{0x4B, 0x0F, 0xE1, 255}
 			}
 			return color.RGBA{255, 255, 255, 255}
-		}, true},
-		{"one pixel", 1, 1, func(x, y int) color.RGBA { return color.RGBA{1, 2, 3, 255} }, true},
-		{"transparent", 20, 20, func(x, y int) color.RGBA { return color.RGBA{0, 0, 0, uint8(x * 10)} }, false},
+		}, true, 1},
+		{"one pixel", 1, 1, func(x, y int) color.RGBA { return color.RGBA{1, 2, 3, 255} }, true, 1},
+		{"transparent", 20, 20, func(x, y int) color.RGBA { return color.RGBA{0, 0, 0, uint8(x * 10)} }, false, 1},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -47,6 +49,12 @@ func TestWritePNG(t *testing.T) {
 			var b bytes.Buffer
 			if err := writePNG(&b, img); err != nil {
 				t.Fatal(err)
+			}
+			if n := bytes.Count(b.Bytes(), []byte("IDAT")); n < c.idats {
+				t.Errorf("%d IDAT chunks, want at least %d", n, c.idats)
+			}
+			if err := writePNG(failingWriter{}, img); err == nil {
+				t.Error("a failing writer gave no error")
 			}
 			back, err := png.Decode(&b)
 			if err != nil {
@@ -70,3 +78,7 @@ func TestWritePNG(t *testing.T) {
 		})
 	}
 }
+
+type failingWriter struct{}
+
+func (failingWriter) Write([]byte) (int, error) { return 0, errors.New("disk full") }

@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"fmt"
 	"math"
 	"strconv"
 
@@ -117,28 +118,31 @@ func appendCirclePath(b []byte, x, y, r float64, rs []byte) []byte {
 func appendG5(b []byte, v float64) []byte { return strconv.AppendFloat(b, v, 'g', 5, 64) }
 
 // fill puts the collected elements in place of the placeholders of svg,
-// in order. An SVG without them (another canvas drew) comes back as is.
-func (s *svgDiscs) fill(svg []byte) []byte {
+// in order. Each draw left one placeholder; a count that differs means
+// the SVG is not what the discs drew on, and is an error.
+func (s *svgDiscs) fill(svg []byte) ([]byte, error) {
 	if len(s.blocks) == 0 {
-		return svg
+		return svg, nil
 	}
-	var out bytes.Buffer
-	out.Grow(len(svg) + len(s.blocks)*len(s.blocks[0]))
+	if n := bytes.Count(svg, []byte(svgPlaceholder)); n != len(s.blocks) {
+		return nil, fmt.Errorf("svg discs: %d placeholders for %d groups", n, len(s.blocks))
+	}
+	size := len(svg)
+	for _, b := range s.blocks {
+		size += len(b)
+	}
+	out := make([]byte, 0, size)
 	rest := svg
 	for _, blk := range s.blocks {
 		i := bytes.Index(rest, []byte(svgPlaceholder))
-		if i < 0 {
-			break
-		}
 		j := bytes.IndexByte(rest[i:], '\n')
 		if j < 0 {
-			break
+			return nil, fmt.Errorf("svg discs: unterminated placeholder")
 		}
-		out.Write(rest[:i])
-		out.Write(blk)
+		out = append(out, rest[:i]...)
+		out = append(out, blk...)
 		rest = rest[i+j+1:]
 	}
-	out.Write(rest)
 	s.blocks = nil
-	return out.Bytes()
+	return append(out, rest...), nil
 }
