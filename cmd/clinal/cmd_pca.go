@@ -17,6 +17,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"syscall"
 	"time"
 
@@ -558,12 +559,15 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 		}()
 	}
 	werr := make(chan error, 1)
+	var failed atomic.Bool // a write failed: the rows still to come are not computed
 	go func() {
 		var err error
 		for b := range queue {
 			<-b.done
 			if err == nil {
-				err = lw.WriteRows(b.text)
+				if err = lw.WriteRows(b.text); err != nil {
+					failed.Store(true)
+				}
 			}
 			free <- b
 		}
@@ -576,7 +580,11 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 		cur = <-free
 		cur.ords, cur.vals = cur.ords[:0], cur.vals[:0]
 	}
+	errWrite := errors.New("loadings: the write failed")
 	err = randsvd.Loadings(ctx, op, res, func(ord int, v []float64) error {
+		if failed.Load() {
+			return errWrite // the writer's own error is returned below
+		}
 		cur.ords = append(cur.ords, ord)
 		cur.vals = append(cur.vals, v...)
 		if len(cur.ords) == batchRows {
@@ -590,7 +598,7 @@ func writeLoadings(ctx context.Context, path string, st *matrixio.Store, op *ran
 	close(work)
 	close(queue)
 	fwg.Wait()
-	if e := <-werr; err == nil {
+	if e := <-werr; err == nil || errors.Is(err, errWrite) {
 		err = e
 	}
 	if err != nil {
