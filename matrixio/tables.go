@@ -189,11 +189,9 @@ func (lw *LoadingsWriter) Write(m Marker, freq, scale float64, v []float64) erro
 	return err
 }
 
-// AppendLoadingsRow appends to dst the line Write writes for m (newline
-// included). Formatting, most of the work of a loadings file (the
-// shortest forms of twelve float64 values a marker), can so be spread
-// over goroutines, the lines then written in order with WriteRows.
-func AppendLoadingsRow(dst []byte, m Marker, freq, scale float64, v []float64) []byte {
+// AppendMarker appends a marker's identity as the tables and the VCF
+// writer print it: chrom, pos, id, ref and alt, tab separated.
+func AppendMarker(dst []byte, m Marker) []byte {
 	dst = append(dst, m.Chrom...)
 	dst = append(dst, '\t')
 	dst = strconv.AppendInt(dst, m.Pos, 10)
@@ -202,7 +200,15 @@ func AppendLoadingsRow(dst []byte, m Marker, freq, scale float64, v []float64) [
 	dst = append(dst, '\t')
 	dst = append(dst, m.Ref...)
 	dst = append(dst, '\t')
-	dst = append(dst, m.Alt...)
+	return append(dst, m.Alt...)
+}
+
+// AppendLoadingsRow appends to dst the line Write writes for m (newline
+// included). Formatting, most of the work of a loadings file (the
+// shortest forms of twelve float64 values a marker), can so be spread
+// over goroutines, the lines then written in order with WriteRows.
+func AppendLoadingsRow(dst []byte, m Marker, freq, scale float64, v []float64) []byte {
+	dst = AppendMarker(dst, m)
 	dst = append(dst, '\t')
 	dst = append(dst, m.Alt...)
 	dst = append(dst, '\t')

@@ -116,16 +116,7 @@ func (w *VCFWriter) begin(m Marker) error {
 		w.seen[m.Chrom] = true
 		w.contigs = append(w.contigs, m.Chrom)
 	}
-	l := w.line[:0]
-	l = append(l, m.Chrom...)
-	l = append(l, '\t')
-	l = strconv.AppendInt(l, m.Pos, 10)
-	l = append(l, '\t')
-	l = append(l, m.ID...)
-	l = append(l, '\t')
-	l = append(l, m.Ref...)
-	l = append(l, '\t')
-	l = append(l, m.Alt...)
+	l := AppendMarker(w.line[:0], m)
 	l = append(l, "\t.\t.\t.\t"...)
 	l = append(l, w.opt.Field...)
 	l = append(l, '\t')

@@ -66,25 +66,12 @@ func markerDigest(st *matrixio.Store) string {
 	bw := bufio.NewWriterSize(h, 1<<16)
 	var b []byte
 	for j := range st.NumMarkers() {
-		b = appendMarker(b[:0], st.Marker(j))
+		b = matrixio.AppendMarker(b[:0], st.Marker(j))
 		b = append(b, '\n')
 		bw.Write(b)
 	}
 	bw.Flush()
 	return hex.EncodeToString(h.Sum(nil))
-}
-
-func appendMarker(b []byte, m matrixio.Marker) []byte {
-	b = append(b, m.Chrom...)
-	b = append(b, '\t')
-	b = strconv.AppendInt(b, m.Pos, 10)
-	b = append(b, '\t')
-	b = append(b, m.ID...)
-	b = append(b, '\t')
-	b = append(b, m.Ref...)
-	b = append(b, '\t')
-	b = append(b, m.Alt...)
-	return b
 }
 
 func yesNo(k bool) string {
@@ -183,7 +170,7 @@ func (s *Selection) Write(prefix string, st *matrixio.Store) error {
 		m := st.Marker(j)
 		c := s.Counts[j]
 		ms := Stats(c, nk, float)
-		line = appendMarker(line[:0], m)
+		line = matrixio.AppendMarker(line[:0], m)
 		for _, v := range []float64{ms.CallRate, ms.AltFreq, ms.MAF, s.HWEP[j]} {
 			line = append(line, '\t')
 			line = append(line, matrixio.FormatFloat(v)...)
@@ -205,7 +192,7 @@ func (s *Selection) Write(prefix string, st *matrixio.Store) error {
 		line = append(line, '\n')
 		zb.Write(line)
 		if s.MarkerKept[j] {
-			line = appendMarker(line[:0], m)
+			line = matrixio.AppendMarker(line[:0], m)
 			line = append(line, '\n')
 			bkm.Write(line)
 		}
@@ -445,7 +432,7 @@ func loadMarkers(path string, st *matrixio.Store, sel *Selection, withCounts boo
 		if len(fl) != len(hdr) {
 			return t.errorf("%d fields, want %d", len(fl), len(hdr))
 		}
-		ident = appendMarker(ident[:0], st.Marker(j))
+		ident = matrixio.AppendMarker(ident[:0], st.Marker(j))
 		if got := strings.Join(fl[:5], "\t"); got != string(ident) {
 			return t.errorf("marker %q, the store's marker %d is %q", got, j+1, ident)
 		}
