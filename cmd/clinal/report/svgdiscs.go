@@ -91,6 +91,13 @@ func (s *svgDiscs) draw(c draw.Canvas, sty draw.GlyphStyle, pts []vg.Point) bool
 	return true
 }
 
+// The sines and cosines of vgsvg's circle, whose two arcs end at angles
+// 0 + 0.5*(2 pi) and 0 + 2 pi from a start of 0 (the same arithmetic).
+var (
+	arcSin0, arcCos0 = math.Sincos(0 + 0.5*(2*math.Pi))
+	arcSin1, arcCos1 = math.Sincos(0 + 2*math.Pi)
+)
+
 // appendCirclePath appends vgsvg's path data for a circle glyph of radius
 // r (rs formatted) at (x, y): the move to (x+r, y), then two half-circle
 // arcs (vgsvg's circle, the same arithmetic in the same order).
@@ -99,9 +106,7 @@ func appendCirclePath(b []byte, x, y, r float64, rs []byte) []byte {
 	b = appendG5(b, x+r)
 	b = append(b, ',')
 	b = appendG5(b, y)
-	s0, c0 := math.Sincos(0 + 0.5*(2*math.Pi))
-	s1, c1 := math.Sincos(0 + 2*math.Pi)
-	for _, e := range [2][2]float64{{x + r*c0, y + r*s0}, {x + r*c1, y + r*s1}} {
+	for _, e := range [2][2]float64{{x + r*arcCos0, y + r*arcSin0}, {x + r*arcCos1, y + r*arcSin1}} {
 		b = append(b, 'A')
 		b = append(b, rs...)
 		b = append(b, ',')
