@@ -212,27 +212,30 @@ func TestOperatorMatchesDense(t *testing.T) {
 }
 
 // TestOperatorManySegments is TestOperatorMatchesDense at sample counts
-// with many segments and the second product's other splits: 9,003 samples
-// (18 segments, not a multiple of four: one sample job per thread, each in
-// ranges of at most secondRange samples) and 3,001 (6 segments: the
-// block's marker tiles in two parts, secondParts). Exact and fast passes
-// for 1, 2, 3 and 7 threads must be bit-identical, and agree with K X
-// computed as Z^T (Z X) / M from gonum's dense products of denseZ (the
-// dense K itself would take 650 MB), exact to 1e-12 and fast to 1e-6 in
-// norm (float32 unit roundoff 6e-8; common practice, no source).
+// with many segments and the second product's other splits, for rows of
+// 32 columns (ranges of 4,096 samples, secondRange) and of 20 (ranges of
+// 8,192): 9,003 samples (18 segments, not a multiple of four: one sample
+// job per thread, each in ranges of at most secondRange samples: three at
+// 32 columns, two at 20), 5,001 at 20 columns and 3,001 at 32 (10 and 6
+// segments: the block's marker tiles in two parts, secondParts). Exact
+// and fast passes for 1, 2, 3 and 7 threads must be bit-identical, and
+// agree with K X computed as Z^T (Z X) / M from gonum's dense products of
+// denseZ (the dense K itself would take 650 MB), exact to 1e-12 and fast
+// to 1e-6 in norm (float32 unit roundoff 6e-8; common practice, no
+// source).
 func TestOperatorManySegments(t *testing.T) {
-	for _, tc := range []struct{ n, parts int }{{9003, 1}, {3001, 2}} {
-		t.Run(fmt.Sprintf("n=%d", tc.n), func(t *testing.T) {
-			if p := secondParts(tc.n); p != tc.parts {
-				t.Fatalf("secondParts(%d) = %d, the test wants %d", tc.n, p, tc.parts)
+	for _, tc := range []struct{ n, l, parts int }{{9003, 30, 1}, {9003, 20, 1}, {5001, 20, 2}, {3001, 30, 2}} {
+		t.Run(fmt.Sprintf("n=%d/l=%d", tc.n, tc.l), func(t *testing.T) {
+			if p := secondParts(tc.n, (tc.l+3)&^3); p != tc.parts {
+				t.Fatalf("secondParts(%d, %d) = %d, the test wants %d", tc.n, tc.l, p, tc.parts)
 			}
-			operatorManySegments(t, tc.n)
+			operatorManySegments(t, tc.n, tc.l)
 		})
 	}
 }
 
-func operatorManySegments(t *testing.T, n int) {
-	const m, l = 203, 30
+func operatorManySegments(t *testing.T, n, l int) {
+	const m = 203
 	st, geno := testCohort(t, n, m, 3, 0.05, 0.02, 5, 37)
 	z := denseZ(geno, n)
 	mk, _ := z.Dims()

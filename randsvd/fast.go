@@ -223,5 +223,5 @@ func transpose32(d []byte, w0, w1, w2, w3 uint64) {
 }
 
 // zeroRow stands in for the rows of markers past the block's end in
-// transposeTile (at most secondRange/4 bytes are read).
-var zeroRow [secondRange / 4]byte
+// transposeTile (at most maxSecondRange/4 bytes are read).
+var zeroRow [maxSecondRange / 4]byte

@@ -223,7 +223,19 @@ func (op *Operator) genoFirst(ws *workspace, raw []byte, sels []sel) {
 	ws.rows = newRowSet(rowOffsets(sels, op.st.RowBytes(), ws.rows.offs))
 	nseg := len(op.segs) - 1
 	ws.part = grow(ws.part, nseg*nb*lp)
+	ws.segRows = ws.segRows[:0]
+	for sg := range nseg {
+		ws.segRows = append(ws.segRows, int32(sg*nb))
+	}
 	ws.w = grow(ws.w, nb*lp)
+	if ws.second {
+		ws.wpp = grow(ws.wpp, nb*lp)
+		ws.mwpp = grow(ws.mwpp, nb*lp)
+		if ws.fast {
+			ws.wpp32 = grow32(ws.wpp32, nb*lp)
+			ws.mwpp32 = grow32(ws.mwpp32, nb*lp)
+		}
+	}
 	ws.scratch = grow(ws.scratch, op.threads*lp)
 	ws.scratch32 = grow32(ws.scratch32, op.threads*lp)
 	for len(ws.miss) < op.threads {
@@ -254,10 +266,12 @@ func (op *Operator) reduceJob(ws *workspace, r, t int) {
 	}
 }
 
-// reduceMarker: marker q's W row from its partials and missing calls.
+// reduceMarker: marker q's W row from its partials and missing calls,
+// and in a pass with the second product its rows W''_q = W_q / sd_q and
+// mu_q W''_q (in float32 too in a fast pass), which the second product's
+// tables take.
 func (op *Operator) reduceMarker(ws *workspace, q, t int) {
-	lp, nb := ws.lp, len(ws.sels)
-	nseg := len(op.segs) - 1
+	lp := ws.lp
 	s := ws.sels[q]
 	// The samples missing at this marker (none to look for if the counts
 	// say so). Missing calls of dropped samples may be listed or not:
@@ -268,28 +282,41 @@ func (op *Operator) reduceMarker(ws *workspace, q, t int) {
 		miss = appendMissing(miss, ws.raw[int(s.off)*rb:(int(s.off)+1)*rb], op.n)
 		ws.miss[t] = miss
 	}
+	// The segments' partials summed in segment order (the partial of
+	// segment sg is row sg x b of part, counting from marker q's).
 	w := ws.w[q*lp : q*lp+lp]
-	copy(w, ws.part[q*lp:q*lp+lp])
-	for sg := 1; sg < nseg; sg++ {
-		p := ws.part[(sg*nb+q)*lp : (sg*nb+q)*lp+lp]
-		for k := range w {
-			w[k] += p[k]
-		}
-	}
+	sumRows(w, ws.part[q*lp:], ws.segRows, lp)
 	mu, inv := op.center[s.ord], op.scale[s.ord]
-	// T - S_j: the sum of X over the samples called at marker j.
 	if len(miss) == 0 {
+		// T - S_j: the sum of X over the samples called at marker j.
 		for k := range w {
 			w[k] = (w[k] - mu*ws.tot[k]) * inv
 		}
+	} else {
+		// S_j, the sum of X over the missing samples.
+		sm := ws.scratch[t*lp : t*lp+lp]
+		sumRows(sm, ws.x, miss, lp)
+		called := ws.tot
+		for k := range w {
+			w[k] = (w[k] - mu*(called[k]-sm[k])) * inv
+		}
+	}
+	if !ws.second {
 		return
 	}
-	// S_j, the sum of X over the missing samples.
-	sm := ws.scratch[t*lp : t*lp+lp]
-	sumRows(sm, ws.x, miss, lp)
-	called := ws.tot
-	for k := range w {
-		w[k] = (w[k] - mu*(called[k]-sm[k])) * inv
+	d := ws.wpp[q*lp : q*lp+lp]
+	md := ws.mwpp[q*lp : q*lp+lp]
+	for k := range d {
+		d[k] = w[k] * inv
+		md[k] = mu * d[k]
+	}
+	if ws.fast {
+		d32 := ws.wpp32[q*lp : q*lp+lp]
+		md32 := ws.mwpp32[q*lp : q*lp+lp]
+		for k := range d32 {
+			d32[k] = float32(d[k])
+			md32[k] = float32(md[k])
+		}
 	}
 }
 
@@ -300,25 +327,10 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 	if ws.capture != nil {
 		ws.capture.write(ws.w, nb, lp)
 	}
-	ws.wpp = grow(ws.wpp, nb*lp)
-	ws.mwpp = grow(ws.mwpp, nb*lp)
-	for q, s := range sels {
-		mu, inv := op.center[s.ord], op.scale[s.ord]
-		w := ws.w[q*lp : q*lp+lp]
-		d := ws.wpp[q*lp : q*lp+lp]
-		md := ws.mwpp[q*lp : q*lp+lp]
-		for k := range d {
-			d[k] = w[k] * inv
-			md[k] = mu * d[k]
-			ws.btot[k] -= md[k]
-		}
-	}
-	if ws.fast {
-		ws.wpp32 = grow32(ws.wpp32, nb*lp)
-		ws.mwpp32 = grow32(ws.mwpp32, nb*lp)
-		for i, v := range ws.wpp[:nb*lp] {
-			ws.wpp32[i] = float32(v)
-			ws.mwpp32[i] = float32(ws.mwpp[i])
+	// The constant part of Y, summed in marker order.
+	for q := range nb {
+		for k, v := range ws.mwpp[q*lp : q*lp+lp] {
+			ws.btot[k] -= v
 		}
 	}
 	op.forEach(ws, (len(ws.jobs2)-1)*ws.parts2, (*Operator).secondJob)
@@ -328,23 +340,44 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 }
 
 // secondRange is the most samples whose rows of Y one secondTiles call
-// updates: their float64 rows (640 KiB at 20 columns) stay in cache while
-// the tile tables are rebuilt for each such range.
-const secondRange = 4096
+// updates, for rows of lp columns: the largest power of two from 1,024 to
+// maxSecondRange whose float64 rows, at most 32 columns of them (a
+// kernel's column chunk), take at most secondRangeBytes. Those rows stay
+// in cache while the tile tables are rebuilt for each such range: 8,192
+// samples at 20 columns (1.25 MiB), 4,096 at 24 to 32.
+func secondRange(lp int) int {
+	r := 1024
+	for 2*r <= maxSecondRange && 2*r*min(lp, 32)*8 <= secondRangeBytes {
+		r *= 2
+	}
+	return r
+}
+
+const (
+	// secondRangeBytes bounds the rows of Y of a range (secondRange): with
+	// the tile's tables (320 KiB) they fit the 2 MiB L2 cache of the
+	// machines of benchmarks/kernels. Ranges half as large (640 KiB) made a
+	// 5,000-sample fast pass 5% slower there, because each range rebuilds
+	// every table of the tile (benchmarks/kernels).
+	secondRangeBytes = 1280 << 10
+	maxSecondRange   = 16384
+)
 
 // secondParts is the number of parts into which the second product splits
-// a block's marker tiles: the largest power of two up to 8 with parts x n
-// at most 2 secondRange (one part above 4,096 samples), so that small
+// a block's marker tiles for n samples and rows of lp columns: the largest
+// power of two up to 8 with parts x n at most 2 secondRange(lp) (one part
+// from 8,193 samples at 20 columns), so that small and middle-sized
 // cohorts give the threads separate markers rather than separate samples,
 // each of which would rebuild every group table of the block (256 rows
 // per group, against one row per sample: at 1,000 samples and 2 threads
 // the rebuilt tables made the pass 7% slower than the scatter it
-// replaced). Each part sums its tiles into rows of its own, added to Y in
-// part order (partsJob). It depends on n alone, so the numbers do not
-// depend on the thread count.
-func secondParts(n int) int {
+// replaced; at 5,000 samples two parts instead of two sample jobs made a
+// fast pass 5% faster). Each part sums its tiles into rows of its own,
+// added to Y in part order (partsJob). It depends on n and lp alone, so
+// the numbers do not depend on the thread count.
+func secondParts(n, lp int) int {
 	p := 1
-	for p < 8 && 2*p*n <= 2*secondRange {
+	for p < 8 && 2*p*n <= 2*secondRange(lp) {
 		p *= 2
 	}
 	return p
@@ -373,8 +406,9 @@ func (op *Operator) secondJob(ws *workspace, u, t int) {
 	if g0 == g1 {
 		return
 	}
-	for c := a; c < b; c += secondRange {
-		op.secondTiles(ws, dst, ws.raw, ws.rows.offs, c, min(b, c+secondRange), g0, g1, t)
+	r := secondRange(ws.lp)
+	for c := a; c < b; c += r {
+		op.secondTiles(ws, dst, ws.raw, ws.rows.offs, c, min(b, c+r), g0, g1, t)
 	}
 }
 

@@ -346,6 +346,8 @@ type workspace struct {
 	scratch   []float64 // threads x lp
 	scratch32 []float32 // threads x lp
 	part      []float64 // segments x b x lp partial first products
+	segRows   []int32   // the row of each segment's partial of a marker, from the first's (sg x b)
+	second    bool      // the pass computes the second product (reduceMarker sets its rows W'')
 	miss      [][]int32 // per thread: the samples missing at the marker being reduced
 	z         []float64 // float stores: b x N standardized block
 	ss        []float64 // float stores: the chunk's per-marker sums of squares (reused)
@@ -493,7 +495,7 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 		// sets them up again, from the old tiles.
 		ws.tspare, ws.tbuf = ws.tbuf, nil
 	}
-	ws.fast = fast
+	ws.fast, ws.second = fast, second
 	if fast && ws.x32 == nil {
 		ws.x32 = make([]float32, op.n*lp)
 		ws.tabs32 = make([][]float32, op.threads)
@@ -539,7 +541,7 @@ func (op *Operator) newWorkspace(x []float64, l int, second, fast bool) *workspa
 func (op *Operator) secondBuffers(ws *workspace) {
 	lp := ws.lp
 	nseg := len(op.segs) - 1
-	ws.parts2 = secondParts(op.n)
+	ws.parts2 = secondParts(op.n, lp)
 	nj := min(nseg, max(1, (op.threads+ws.parts2-1)/ws.parts2))
 	old := ws.ypart
 	ws.ypart = make([][]float64, ws.parts2-1)
@@ -558,7 +560,7 @@ func (op *Operator) secondBuffers(ws *workspace) {
 	for j := 0; j < nj; j++ {
 		most = max(most, op.segs[ws.jobs2[j+1]]-op.segs[ws.jobs2[j]])
 	}
-	rows := (min(most, secondRange) + 31) &^ 31
+	rows := (min(most, secondRange(lp)) + 31) &^ 31
 	ng := max(tileGroups(lp), tileGroups32(lp))
 	ws.tbuf = make([][]byte, op.threads)
 	for t := range ws.tbuf {

@@ -145,13 +145,13 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	tabs := int64(tileGroups(int(lp)))*256*lp*8 + int64(tileGroups32(int(lp)))*256*lp*4
 	// Each thread's transposed tile of the second product (secondTiles):
 	// one row per group of the widest tile, at most secondRange samples.
-	tabs += int64(max(tileGroups(int(lp)), tileGroups32(int(lp)))) * int64(min(n, secondRange)+31)
+	tabs += int64(max(tileGroups(int(lp)), tileGroups32(int(lp)))) * int64(min(n, secondRange(int(lp)))+31)
 	// (X in float32, and the block's W'' and mu W'' rows in float32.)
 	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + 2*blockM*lp*4
 	// The second product's rows for marker parts past the first (small
 	// cohorts only, secondParts).
 	if st.Codec() == matrixio.CodecGeno2 {
-		p.KernelBytes += int64(secondParts(n)-1) * int64(n) * lp * 8
+		p.KernelBytes += int64(secondParts(n, int(lp))-1) * int64(n) * lp * 8
 	}
 	// The loadings stash's two row buffers and its encoding buffer during
 	// the closing or refinement pass (stash.go).
