@@ -267,8 +267,8 @@ func (op *Operator) reduceJob(ws *workspace, r, t int) {
 }
 
 // reduceMarker: marker q's W row from its partials and missing calls,
-// and in a pass with the second product its rows W''_q = W_q / sd_q and
-// mu_q W''_q (in float32 too in a fast pass), which the second product's
+// and in a pass with the second product its rows W”_q = W_q / sd_q and
+// mu_q W”_q (in float32 too in a fast pass), which the second product's
 // tables take.
 func (op *Operator) reduceMarker(ws *workspace, q, t int) {
 	lp := ws.lp
