@@ -267,9 +267,9 @@ func (op *Operator) reduceJob(ws *workspace, r, t int) {
 }
 
 // reduceMarker: marker q's W row from its partials and missing calls,
-// and in a pass with the second product its rows W”_q = W_q / sd_q and
-// mu_q W”_q (in float32 too in a fast pass), which the second product's
-// tables take.
+// and in a pass with the second product its rows of wpp (W_q / sd_q) and
+// mwpp (mu_q W_q / sd_q), in float32 too in a fast pass, which the second
+// product's tables take.
 func (op *Operator) reduceMarker(ws *workspace, q, t int) {
 	lp := ws.lp
 	s := ws.sels[q]
