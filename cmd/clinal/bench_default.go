@@ -6,7 +6,7 @@ package main
 // agree). Rerun clinal bench on your own machine for a model of it.
 const defaultModelJSON = `{
   "comment": "clinal bench cost model; see benchmarks/scaling/README.md",
-  "created": "2026-12-02T21:32:50Z",
+  "created": "2026-12-02T22:52:43Z",
   "machine": {
     "cpu": "Intel(R) Xeon(R) Processor",
     "cpus": 2,
@@ -36,18 +36,18 @@ const defaultModelJSON = `{
     ],
     "coefficients": [
       0,
-      1.3097836127536973,
-      0.5771864688941757,
-      0.5261714890186068
+      1.3000653197765535,
+      0.5696189631997527,
+      0.5692778519894417
     ],
-    "max_relative_residual": 0.07449658794082403,
-    "leave_one_out_max_relative_error": 0.08405445608074824,
+    "max_relative_residual": 0.078454762980817,
+    "leave_one_out_max_relative_error": 0.0883271356153793,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 57344000,
-      "predicted": 59879100.27461824,
-      "relative_error": 0.04420864039164063
+      "measured": 58425344,
+      "predicted": 61104030.573412724,
+      "relative_error": 0.04584802399131305
     }
   },
   "wall": {
@@ -60,20 +60,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.09345398924356112,
-      6.649654402309493e-11,
-      2.5173113122010417e-9,
-      0.0000035718588337059284,
-      0.000002577070328066986
+      0.07457959969227557,
+      5.790818909674044e-11,
+      2.4357329998544075e-9,
+      0.000003239929700761349,
+      0.000002202221632027262
     ],
-    "max_relative_residual": 0.27224063289293876,
-    "leave_one_out_max_relative_error": 0.26093370940864136,
+    "max_relative_residual": 0.3303475725805085,
+    "leave_one_out_max_relative_error": 0.3357277958107395,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 1.703112565,
-      "predicted": 1.8910468786258996,
-      "relative_error": 0.11034755863356538
+      "measured": 1.499036875,
+      "predicted": 1.7036812685915619,
+      "relative_error": 0.1365172511794026
     }
   },
   "cpu": {
@@ -86,20 +86,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.12294451971340345,
-      6.096309522943868e-11,
-      2.0014611360112076e-9,
-      0.000005509954290660166,
-      0.0000042585188806356015
+      0.09625548912272758,
+      5.2259339317858544e-11,
+      1.7759980061943228e-9,
+      0.000005178746717289102,
+      0.00000504175150950848
     ],
-    "max_relative_residual": 0.2523174702828359,
-    "leave_one_out_max_relative_error": 0.2779193474026329,
+    "max_relative_residual": 0.278319232416687,
+    "leave_one_out_max_relative_error": 0.3123353748871138,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 2.8852420000000003,
-      "predicted": 3.2375958099602857,
-      "relative_error": 0.1221227924591024
+      "measured": 2.563944,
+      "predicted": 2.8143894973379755,
+      "relative_error": 0.09767978447968284
     }
   },
   "points": [
@@ -113,11 +113,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.173521123,
-      "pca_cpu_seconds": 0.258936,
-      "solve_wall_seconds": 0.075846048,
-      "solve_cpu_seconds": 0.12498000000000001,
-      "pca_peak_rss_bytes": 44470272,
+      "pca_wall_seconds": 0.146223436,
+      "pca_cpu_seconds": 0.226336,
+      "solve_wall_seconds": 0.066903513,
+      "solve_cpu_seconds": 0.11224899999999999,
+      "pca_peak_rss_bytes": 43859968,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 3096000,
@@ -134,11 +134,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.266062476,
-      "pca_cpu_seconds": 0.41776399999999997,
-      "solve_wall_seconds": 0.118341842,
-      "solve_cpu_seconds": 0.204137,
-      "pca_peak_rss_bytes": 49422336,
+      "pca_wall_seconds": 0.229555884,
+      "pca_cpu_seconds": 0.362517,
+      "solve_wall_seconds": 0.101705586,
+      "solve_cpu_seconds": 0.172819,
+      "pca_peak_rss_bytes": 46784512,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 6096000,
@@ -155,11 +155,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.451706872,
-      "pca_cpu_seconds": 0.726977,
-      "solve_wall_seconds": 0.20623248,
-      "solve_cpu_seconds": 0.362352,
-      "pca_peak_rss_bytes": 49639424,
+      "pca_wall_seconds": 0.398344955,
+      "pca_cpu_seconds": 0.62437,
+      "solve_wall_seconds": 0.184469787,
+      "solve_cpu_seconds": 0.304994,
+      "pca_peak_rss_bytes": 50561024,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 12096000,
@@ -176,11 +176,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.806652435,
-      "pca_cpu_seconds": 1.328789,
-      "solve_wall_seconds": 0.364490689,
-      "solve_cpu_seconds": 0.6591840000000001,
-      "pca_peak_rss_bytes": 58114048,
+      "pca_wall_seconds": 0.697918708,
+      "pca_cpu_seconds": 1.135072,
+      "solve_wall_seconds": 0.308672655,
+      "solve_cpu_seconds": 0.551982,
+      "pca_peak_rss_bytes": 58085376,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 24096000,
@@ -197,15 +197,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.24260712,
-      "pca_cpu_seconds": 0.371976,
-      "solve_wall_seconds": 0.132760902,
-      "solve_cpu_seconds": 0.21248900000000004,
-      "pca_peak_rss_bytes": 42938368,
+      "pca_wall_seconds": 0.213096531,
+      "pca_cpu_seconds": 0.32415700000000003,
+      "solve_wall_seconds": 0.119724283,
+      "solve_cpu_seconds": 0.18983499999999998,
+      "pca_peak_rss_bytes": 42717184,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 3192000,
-        "other_bytes": 65832935
+        "other_bytes": 67112935
       }
     },
     {
@@ -218,15 +218,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.350529557,
-      "pca_cpu_seconds": 0.5551309999999999,
-      "solve_wall_seconds": 0.182133828,
-      "solve_cpu_seconds": 0.306095,
-      "pca_peak_rss_bytes": 43589632,
+      "pca_wall_seconds": 0.307329657,
+      "pca_cpu_seconds": 0.491137,
+      "solve_wall_seconds": 0.16209411,
+      "solve_cpu_seconds": 0.276018,
+      "pca_peak_rss_bytes": 45211648,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 6192000,
-        "other_bytes": 65839922
+        "other_bytes": 67119922
       }
     },
     {
@@ -239,15 +239,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.589024215,
-      "pca_cpu_seconds": 0.960245,
-      "solve_wall_seconds": 0.303928275,
-      "solve_cpu_seconds": 0.5258320000000001,
-      "pca_peak_rss_bytes": 48345088,
+      "pca_wall_seconds": 0.539032594,
+      "pca_cpu_seconds": 0.850333,
+      "solve_wall_seconds": 0.275872099,
+      "solve_cpu_seconds": 0.468185,
+      "pca_peak_rss_bytes": 47869952,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 12192000,
-        "other_bytes": 65850068
+        "other_bytes": 67130068
       }
     },
     {
@@ -260,15 +260,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 1.077890157,
-      "pca_cpu_seconds": 1.780615,
-      "solve_wall_seconds": 0.559141216,
-      "solve_cpu_seconds": 0.9818520000000002,
-      "pca_peak_rss_bytes": 54009856,
+      "pca_wall_seconds": 0.968256114,
+      "pca_cpu_seconds": 1.588784,
+      "solve_wall_seconds": 0.502617009,
+      "solve_cpu_seconds": 0.875484,
+      "pca_peak_rss_bytes": 55320576,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 24192000,
-        "other_bytes": 65850068
+        "other_bytes": 67130068
       }
     },
     {
@@ -281,15 +281,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.374033712,
-      "pca_cpu_seconds": 0.605472,
-      "solve_wall_seconds": 0.220043671,
-      "solve_cpu_seconds": 0.383069,
-      "pca_peak_rss_bytes": 46575616,
+      "pca_wall_seconds": 0.341367539,
+      "pca_cpu_seconds": 0.520906,
+      "solve_wall_seconds": 0.203753612,
+      "solve_cpu_seconds": 0.326917,
+      "pca_peak_rss_bytes": 48185344,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 3384000,
-        "other_bytes": 69186060
+        "other_bytes": 70466060
       }
     },
     {
@@ -302,15 +302,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.527009694,
-      "pca_cpu_seconds": 0.886325,
-      "solve_wall_seconds": 0.295893702,
-      "solve_cpu_seconds": 0.5345489999999999,
-      "pca_peak_rss_bytes": 49274880,
+      "pca_wall_seconds": 0.457114,
+      "pca_cpu_seconds": 0.749998,
+      "solve_wall_seconds": 0.244662918,
+      "solve_cpu_seconds": 0.437946,
+      "pca_peak_rss_bytes": 49799168,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 6384000,
-        "other_bytes": 69192324
+        "other_bytes": 70472324
       }
     },
     {
@@ -323,15 +323,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.914749408,
-      "pca_cpu_seconds": 1.547955,
-      "solve_wall_seconds": 0.505897036,
-      "solve_cpu_seconds": 0.920989,
-      "pca_peak_rss_bytes": 51310592,
+      "pca_wall_seconds": 0.813590778,
+      "pca_cpu_seconds": 1.3435210000000002,
+      "solve_wall_seconds": 0.437192768,
+      "solve_cpu_seconds": 0.788563,
+      "pca_peak_rss_bytes": 53477376,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 12384000,
-        "other_bytes": 69198392
+        "other_bytes": 70478392
       }
     },
     {
@@ -344,15 +344,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 1.703112565,
-      "pca_cpu_seconds": 2.8852420000000003,
-      "solve_wall_seconds": 0.941860592,
-      "solve_cpu_seconds": 1.719055,
-      "pca_peak_rss_bytes": 57344000,
+      "pca_wall_seconds": 1.499036875,
+      "pca_cpu_seconds": 2.563944,
+      "solve_wall_seconds": 0.8196537,
+      "solve_cpu_seconds": 1.502317,
+      "pca_peak_rss_bytes": 58425344,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 24384000,
-        "other_bytes": 69198392
+        "other_bytes": 70478392
       }
     },
     {
@@ -365,15 +365,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.377896768,
-      "pca_cpu_seconds": 0.616657,
-      "solve_wall_seconds": 0.242764076,
-      "solve_cpu_seconds": 0.42312599999999995,
-      "pca_peak_rss_bytes": 61992960,
+      "pca_wall_seconds": 0.32652856,
+      "pca_cpu_seconds": 0.543306,
+      "solve_wall_seconds": 0.21790649,
+      "solve_cpu_seconds": 0.38231899999999996,
+      "pca_peak_rss_bytes": 62517248,
       "plan": {
         "solver_bytes": 10240000,
         "table_bytes": 2268000,
-        "other_bytes": 74099372
+        "other_bytes": 75504300
       }
     },
     {
@@ -386,15 +386,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.498935859,
-      "pca_cpu_seconds": 0.8376650000000001,
-      "solve_wall_seconds": 0.327642362,
-      "solve_cpu_seconds": 0.568453,
-      "pca_peak_rss_bytes": 74952704,
+      "pca_wall_seconds": 0.412832645,
+      "pca_cpu_seconds": 0.6651699999999999,
+      "solve_wall_seconds": 0.282985583,
+      "solve_cpu_seconds": 0.474255,
+      "pca_peak_rss_bytes": 74059776,
       "plan": {
         "solver_bytes": 20480000,
         "table_bytes": 2286000,
-        "other_bytes": 83030987
+        "other_bytes": 83162059
       }
     },
     {
@@ -407,15 +407,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.904039186,
-      "pca_cpu_seconds": 1.460798,
-      "solve_wall_seconds": 0.68240803,
-      "solve_cpu_seconds": 1.126106,
-      "pca_peak_rss_bytes": 115617792,
+      "pca_wall_seconds": 0.858453836,
+      "pca_cpu_seconds": 1.3827760000000002,
+      "solve_wall_seconds": 0.65128741,
+      "solve_cpu_seconds": 0.996441,
+      "pca_peak_rss_bytes": 113319936,
       "plan": {
         "solver_bytes": 40960000,
         "table_bytes": 3822000,
-        "other_bytes": 102156382
+        "other_bytes": 102287454
       }
     },
     {
@@ -428,11 +428,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.532526644,
-      "pca_cpu_seconds": 2.5476039999999998,
-      "solve_wall_seconds": 0.664814336,
-      "solve_cpu_seconds": 1.219543,
-      "pca_peak_rss_bytes": 69472256,
+      "pca_wall_seconds": 1.36253135,
+      "pca_cpu_seconds": 2.2471449999999997,
+      "solve_wall_seconds": 0.579669582,
+      "solve_cpu_seconds": 1.0563250000000002,
+      "pca_peak_rss_bytes": 70959104,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 48096000,
@@ -440,4 +440,5 @@ const defaultModelJSON = `{
       }
     }
   ]
-}`
+}
+`
