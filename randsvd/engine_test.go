@@ -213,10 +213,11 @@ func TestOperatorMatchesDense(t *testing.T) {
 
 // TestOperatorManySegments is TestOperatorMatchesDense at sample counts
 // with many segments and the second product's other splits, for rows of
-// 32 columns (ranges of 4,096 samples, secondRange) and of 20 (ranges of
-// 8,192): 9,003 samples (18 segments, not a multiple of four: one sample
-// job per thread, each in ranges of at most secondRange samples: three at
-// 32 columns, two at 20), 5,001 at 20 columns and 3,001 at 32 (10 and 6
+// 32 columns (ranges of 4,096 samples, secondRange), of 20 (ranges of
+// 8,192) and of 8 (ranges of 16,384, the longest): 9,003 samples (18
+// segments, not a multiple of four: one sample job per thread, each in
+// ranges of at most secondRange samples: three at 32 columns, two at 20),
+// 5,001 at 20 columns, 3,001 at 32 and 16,003 at 8 (10, 6 and 32
 // segments: the block's marker tiles in two parts, secondParts). Exact
 // and fast passes for 1, 2, 3 and 7 threads must be bit-identical, and
 // agree with K X computed as Z^T (Z X) / M from gonum's dense products of
@@ -224,7 +225,7 @@ func TestOperatorMatchesDense(t *testing.T) {
 // to 1e-6 in norm (float32 unit roundoff 6e-8; common practice, no
 // source).
 func TestOperatorManySegments(t *testing.T) {
-	for _, tc := range []struct{ n, l, parts int }{{9003, 30, 1}, {9003, 20, 1}, {5001, 20, 2}, {3001, 30, 2}} {
+	for _, tc := range []struct{ n, l, parts int }{{9003, 30, 1}, {9003, 20, 1}, {5001, 20, 2}, {3001, 30, 2}, {16003, 8, 2}} {
 		t.Run(fmt.Sprintf("n=%d/l=%d", tc.n, tc.l), func(t *testing.T) {
 			if p := secondParts(tc.n, (tc.l+3)&^3); p != tc.parts {
 				t.Fatalf("secondParts(%d, %d) = %d, the test wants %d", tc.n, tc.l, p, tc.parts)

@@ -28,7 +28,9 @@ import (
 // Samples are cut into fixed segments of segSamples (independent of the
 // thread count); first-product partials are summed over segments in order,
 // and a sample's second-product sum runs over the block's marker groups in
-// order, so the result never depends on scheduling.
+// order within each marker part (secondParts, which depends on the sample
+// count and the block width alone), the parts then added in part order, so
+// the result never depends on scheduling.
 
 const (
 	segSamples  = 512 // samples per segment for small cohorts
@@ -343,8 +345,9 @@ func (op *Operator) genoChunk(ws *workspace, raw []byte, sels []sel) {
 // updates, for rows of lp columns: the largest power of two from 1,024 to
 // maxSecondRange whose float64 rows, at most 32 columns of them (a
 // kernel's column chunk), take at most secondRangeBytes. Those rows stay
-// in cache while the tile tables are rebuilt for each such range: 8,192
-// samples at 20 columns (1.25 MiB), 4,096 at 24 to 32.
+// in cache while the tile tables are rebuilt for each such range: 16,384
+// samples at up to 8 columns, 8,192 at 12 to 20 (1.25 MiB at 20), 4,096
+// from 24.
 func secondRange(lp int) int {
 	r := 1024
 	for 2*r <= maxSecondRange && 2*r*min(lp, 32)*8 <= secondRangeBytes {

@@ -216,7 +216,7 @@ mgroup:
 	VPSUBQ Z9, Z3, Z5
 	VPTESTMQ Z3, Z5, K3          // words with three or more
 	KORTESTW K3, K3
-	JNZ mslow0
+	JNZ mslow
 	VPSUBQ Z1, Z12, Z4
 	VPANDQ Z1, Z4, Z4            // the lowest set bit
 	VPLZCNTQ Z4, Z4
@@ -240,9 +240,8 @@ mgroup:
 	POPCNTL R9, R9
 	ADDQ R9, AX
 	JMP mnext
-mslow0:
-	KMOVW K1, R9
 mslow:
+	KMOVW K1, R9
 	MOVQ DX, BX
 mword:
 	BSFQ R9, R10                 // word j of the group

@@ -139,19 +139,13 @@ func PlanMemory(st *matrixio.Store, k, oversample, threads int, limit int64) (Me
 	target := int64(blockTarget(n, int(lp), int(rb)))
 	blockM := max(target, int64(st.ChunkMarkers()))
 	nseg := int64(len(segments(n)) - 1)
-	// Fast passes (fast.go) use float32 tables and float32 copies of X
-	// and of the block's W''; a run that mixes both kinds of pass keeps
-	// both kinds of table.
-	tabs := int64(tileGroups(int(lp)))*256*lp*8 + int64(tileGroups32(int(lp)))*256*lp*4
-	// Each thread's transposed tile of the second product (secondTiles):
-	// one row per group of the widest tile, at most secondRange samples.
-	tabs += int64(max(tileGroups(int(lp)), tileGroups32(int(lp)))) * int64(min(n, secondRange(int(lp)))+31)
+	tabs, parts := widthBuffers(n, lp)
 	// (X in float32, and the block's W'' and mu W'' rows in float32.)
 	p.KernelBytes = nseg*blockM*lp*8 + int64(max(1, threads))*tabs + int64(n)*lp*4 + 2*blockM*lp*4
 	// The second product's rows for marker parts past the first (small
-	// cohorts only, secondParts).
+	// and middle-sized cohorts only, secondParts).
 	if st.Codec() == matrixio.CodecGeno2 {
-		p.KernelBytes += int64(secondParts(n, int(lp))-1) * int64(n) * lp * 8
+		p.KernelBytes += int64(parts-1) * int64(n) * lp * 8
 	}
 	// The loadings stash's two row buffers and its encoding buffer during
 	// the closing or refinement pass (stash.go).
@@ -418,4 +412,25 @@ func (r *PCAResult) Truncate(k int) {
 		hist[i] = h[:min(k, len(h))]
 	}
 	r.History = hist
+}
+
+// widthBuffers bounds, for n samples and blocks of at most lp columns,
+// each thread's group tables and transposed tile (tabs) and the number of
+// the second product's marker parts (parts, secondParts), over every
+// width the solver applies K to (multiples of 4 up to lp: its Krylov
+// block, a closing pass's remainder, K alone). Narrower passes take more
+// tile groups, longer sample ranges and more parts, and the workspace
+// keeps the largest buffers across widths (newWorkspace). Fast passes
+// (fast.go) use float32 tables and a run that mixes both kinds of pass
+// keeps both kinds of table; the transposed tile has one row per group of
+// the widest tile, at most secondRange samples.
+func widthBuffers(n int, lp int64) (tabs int64, parts int) {
+	for w := 4; w <= int(lp); w += 4 {
+		w64 := int64(w)
+		t := int64(tileGroups(w))*256*w64*8 + int64(tileGroups32(w))*256*w64*4
+		t += int64(max(tileGroups(w), tileGroups32(w))) * int64(min(n, secondRange(w))+31)
+		tabs = max(tabs, t)
+		parts = max(parts, secondParts(n, w))
+	}
+	return tabs, max(parts, 1)
 }
