@@ -6,7 +6,7 @@ package main
 // agree). Rerun clinal bench on your own machine for a model of it.
 const defaultModelJSON = `{
   "comment": "clinal bench cost model; see benchmarks/scaling/README.md",
-  "created": "2026-12-02T22:52:43Z",
+  "created": "2026-12-02T23:03:15Z",
   "machine": {
     "cpu": "Intel(R) Xeon(R) Processor",
     "cpus": 2,
@@ -35,19 +35,19 @@ const defaultModelJSON = `{
       "table_bytes"
     ],
     "coefficients": [
-      0,
-      1.3000653197765535,
-      0.5696189631997527,
-      0.5692778519894417
+      347112.276635045,
+      1.2106114749608863,
+      0.5719283047639565,
+      0.5499596264305657
     ],
-    "max_relative_residual": 0.078454762980817,
-    "leave_one_out_max_relative_error": 0.0883271356153793,
+    "max_relative_residual": 0.07531438704265214,
+    "leave_one_out_max_relative_error": 0.08582149350216717,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 58425344,
-      "predicted": 61104030.573412724,
-      "relative_error": 0.04584802399131305
+      "measured": 59748352,
+      "predicted": 62069772.04104541,
+      "relative_error": 0.038853289895684595
     }
   },
   "wall": {
@@ -60,20 +60,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.07457959969227557,
-      5.790818909674044e-11,
-      2.4357329998544075e-9,
-      0.000003239929700761349,
-      0.000002202221632027262
+      0.08633446372676867,
+      5.7979796965780283e-11,
+      2.443201442070425e-9,
+      0.0000031655400422789104,
+      0.0000018130987370598738
     ],
-    "max_relative_residual": 0.3303475725805085,
-    "leave_one_out_max_relative_error": 0.3357277958107395,
+    "max_relative_residual": 0.3061074299620308,
+    "leave_one_out_max_relative_error": 0.2922710793170027,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 1.499036875,
-      "predicted": 1.7036812685915619,
-      "relative_error": 0.1365172511794026
+      "measured": 1.507861828,
+      "predicted": 1.7118211231625935,
+      "relative_error": 0.1352639156819304
     }
   },
   "cpu": {
@@ -86,20 +86,20 @@ const defaultModelJSON = `{
       "N"
     ],
     "coefficients": [
-      0.09625548912272758,
-      5.2259339317858544e-11,
-      1.7759980061943228e-9,
-      0.000005178746717289102,
-      0.00000504175150950848
+      0.11397814513626922,
+      5.24324180184241e-11,
+      1.8844102453876717e-9,
+      0.000004973527600413574,
+      0.000002939863856277525
     ],
-    "max_relative_residual": 0.278319232416687,
-    "leave_one_out_max_relative_error": 0.3123353748871138,
+    "max_relative_residual": 0.2805333760375228,
+    "leave_one_out_max_relative_error": 0.280047856055775,
     "held_out_largest": {
       "samples": 4000,
       "markers": 80000,
-      "measured": 2.563944,
-      "predicted": 2.8143894973379755,
-      "relative_error": 0.09767978447968284
+      "measured": 2.544253,
+      "predicted": 2.8737450577519454,
+      "relative_error": 0.1295044391229747
     }
   },
   "points": [
@@ -113,11 +113,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.146223436,
-      "pca_cpu_seconds": 0.226336,
-      "solve_wall_seconds": 0.066903513,
-      "solve_cpu_seconds": 0.11224899999999999,
-      "pca_peak_rss_bytes": 43859968,
+      "pca_wall_seconds": 0.160769148,
+      "pca_cpu_seconds": 0.23865,
+      "solve_wall_seconds": 0.075439507,
+      "solve_cpu_seconds": 0.120015,
+      "pca_peak_rss_bytes": 44777472,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 3096000,
@@ -134,11 +134,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.229555884,
-      "pca_cpu_seconds": 0.362517,
-      "solve_wall_seconds": 0.101705586,
-      "solve_cpu_seconds": 0.172819,
-      "pca_peak_rss_bytes": 46784512,
+      "pca_wall_seconds": 0.228585203,
+      "pca_cpu_seconds": 0.357909,
+      "solve_wall_seconds": 0.104313492,
+      "solve_cpu_seconds": 0.17656499999999997,
+      "pca_peak_rss_bytes": 45834240,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 6096000,
@@ -155,11 +155,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.398344955,
-      "pca_cpu_seconds": 0.62437,
-      "solve_wall_seconds": 0.184469787,
-      "solve_cpu_seconds": 0.304994,
-      "pca_peak_rss_bytes": 50561024,
+      "pca_wall_seconds": 0.399201404,
+      "pca_cpu_seconds": 0.644467,
+      "solve_wall_seconds": 0.175739559,
+      "solve_cpu_seconds": 0.304755,
+      "pca_peak_rss_bytes": 51707904,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 12096000,
@@ -176,11 +176,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.697918708,
-      "pca_cpu_seconds": 1.135072,
-      "solve_wall_seconds": 0.308672655,
-      "solve_cpu_seconds": 0.551982,
-      "pca_peak_rss_bytes": 58085376,
+      "pca_wall_seconds": 0.730419045,
+      "pca_cpu_seconds": 1.189555,
+      "solve_wall_seconds": 0.325031608,
+      "solve_cpu_seconds": 0.5733570000000001,
+      "pca_peak_rss_bytes": 58728448,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 24096000,
@@ -197,11 +197,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.213096531,
-      "pca_cpu_seconds": 0.32415700000000003,
-      "solve_wall_seconds": 0.119724283,
-      "solve_cpu_seconds": 0.18983499999999998,
-      "pca_peak_rss_bytes": 42717184,
+      "pca_wall_seconds": 0.21717625,
+      "pca_cpu_seconds": 0.334803,
+      "solve_wall_seconds": 0.117338501,
+      "solve_cpu_seconds": 0.19196,
+      "pca_peak_rss_bytes": 42819584,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 3192000,
@@ -218,11 +218,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.307329657,
-      "pca_cpu_seconds": 0.491137,
-      "solve_wall_seconds": 0.16209411,
-      "solve_cpu_seconds": 0.276018,
-      "pca_peak_rss_bytes": 45211648,
+      "pca_wall_seconds": 0.317235496,
+      "pca_cpu_seconds": 0.504938,
+      "solve_wall_seconds": 0.16073519,
+      "solve_cpu_seconds": 0.279039,
+      "pca_peak_rss_bytes": 48857088,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 6192000,
@@ -239,11 +239,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.539032594,
-      "pca_cpu_seconds": 0.850333,
-      "solve_wall_seconds": 0.275872099,
-      "solve_cpu_seconds": 0.468185,
-      "pca_peak_rss_bytes": 47869952,
+      "pca_wall_seconds": 0.542590216,
+      "pca_cpu_seconds": 0.870132,
+      "solve_wall_seconds": 0.282615172,
+      "solve_cpu_seconds": 0.48131399999999996,
+      "pca_peak_rss_bytes": 47489024,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 12192000,
@@ -260,11 +260,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.968256114,
-      "pca_cpu_seconds": 1.588784,
-      "solve_wall_seconds": 0.502617009,
-      "solve_cpu_seconds": 0.875484,
-      "pca_peak_rss_bytes": 55320576,
+      "pca_wall_seconds": 0.981129542,
+      "pca_cpu_seconds": 1.6007930000000001,
+      "solve_wall_seconds": 0.51071377,
+      "solve_cpu_seconds": 0.886637,
+      "pca_peak_rss_bytes": 55697408,
       "plan": {
         "solver_bytes": 2560000,
         "table_bytes": 24192000,
@@ -281,15 +281,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.341367539,
-      "pca_cpu_seconds": 0.520906,
-      "solve_wall_seconds": 0.203753612,
-      "solve_cpu_seconds": 0.326917,
-      "pca_peak_rss_bytes": 48185344,
+      "pca_wall_seconds": 0.325583736,
+      "pca_cpu_seconds": 0.523965,
+      "solve_wall_seconds": 0.190362301,
+      "solve_cpu_seconds": 0.321422,
+      "pca_peak_rss_bytes": 48525312,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 3384000,
-        "other_bytes": 70466060
+        "other_bytes": 73026060
       }
     },
     {
@@ -302,15 +302,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.457114,
-      "pca_cpu_seconds": 0.749998,
-      "solve_wall_seconds": 0.244662918,
-      "solve_cpu_seconds": 0.437946,
-      "pca_peak_rss_bytes": 49799168,
+      "pca_wall_seconds": 0.469897938,
+      "pca_cpu_seconds": 0.769862,
+      "solve_wall_seconds": 0.2525142,
+      "solve_cpu_seconds": 0.44138299999999997,
+      "pca_peak_rss_bytes": 50520064,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 6384000,
-        "other_bytes": 70472324
+        "other_bytes": 73032324
       }
     },
     {
@@ -323,15 +323,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 0.813590778,
-      "pca_cpu_seconds": 1.3435210000000002,
-      "solve_wall_seconds": 0.437192768,
-      "solve_cpu_seconds": 0.788563,
-      "pca_peak_rss_bytes": 53477376,
+      "pca_wall_seconds": 0.826074564,
+      "pca_cpu_seconds": 1.363966,
+      "solve_wall_seconds": 0.454830319,
+      "solve_cpu_seconds": 0.803424,
+      "pca_peak_rss_bytes": 52662272,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 12384000,
-        "other_bytes": 70478392
+        "other_bytes": 73038392
       }
     },
     {
@@ -344,15 +344,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 5,
       "repeats": 5,
-      "pca_wall_seconds": 1.499036875,
-      "pca_cpu_seconds": 2.563944,
-      "solve_wall_seconds": 0.8196537,
-      "solve_cpu_seconds": 1.502317,
-      "pca_peak_rss_bytes": 58425344,
+      "pca_wall_seconds": 1.507861828,
+      "pca_cpu_seconds": 2.544253,
+      "solve_wall_seconds": 0.825708226,
+      "solve_cpu_seconds": 1.497801,
+      "pca_peak_rss_bytes": 59748352,
       "plan": {
         "solver_bytes": 5120000,
         "table_bytes": 24384000,
-        "other_bytes": 70478392
+        "other_bytes": 73038392
       }
     },
     {
@@ -365,15 +365,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 0.32652856,
-      "pca_cpu_seconds": 0.543306,
-      "solve_wall_seconds": 0.21790649,
-      "solve_cpu_seconds": 0.38231899999999996,
-      "pca_peak_rss_bytes": 62517248,
+      "pca_wall_seconds": 0.338985151,
+      "pca_cpu_seconds": 0.542641,
+      "solve_wall_seconds": 0.216196671,
+      "solve_cpu_seconds": 0.37174799999999997,
+      "pca_peak_rss_bytes": 63414272,
       "plan": {
         "solver_bytes": 10240000,
         "table_bytes": 2268000,
-        "other_bytes": 75504300
+        "other_bytes": 78064300
       }
     },
     {
@@ -386,15 +386,15 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.412832645,
-      "pca_cpu_seconds": 0.6651699999999999,
-      "solve_wall_seconds": 0.282985583,
-      "solve_cpu_seconds": 0.474255,
-      "pca_peak_rss_bytes": 74059776,
+      "pca_wall_seconds": 0.45301338,
+      "pca_cpu_seconds": 0.741282,
+      "solve_wall_seconds": 0.318763892,
+      "solve_cpu_seconds": 0.550195,
+      "pca_peak_rss_bytes": 73347072,
       "plan": {
         "solver_bytes": 20480000,
         "table_bytes": 2286000,
-        "other_bytes": 83162059
+        "other_bytes": 85722059
       }
     },
     {
@@ -407,11 +407,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 7,
       "repeats": 5,
-      "pca_wall_seconds": 0.858453836,
-      "pca_cpu_seconds": 1.3827760000000002,
-      "solve_wall_seconds": 0.65128741,
-      "solve_cpu_seconds": 0.996441,
-      "pca_peak_rss_bytes": 113319936,
+      "pca_wall_seconds": 0.828200818,
+      "pca_cpu_seconds": 1.332214,
+      "solve_wall_seconds": 0.633356947,
+      "solve_cpu_seconds": 1.035198,
+      "pca_peak_rss_bytes": 112427008,
       "plan": {
         "solver_bytes": 40960000,
         "table_bytes": 3822000,
@@ -428,11 +428,11 @@ const defaultModelJSON = `{
       "threads": 2,
       "passes": 6,
       "repeats": 5,
-      "pca_wall_seconds": 1.36253135,
-      "pca_cpu_seconds": 2.2471449999999997,
-      "solve_wall_seconds": 0.579669582,
-      "solve_cpu_seconds": 1.0563250000000002,
-      "pca_peak_rss_bytes": 70959104,
+      "pca_wall_seconds": 1.384245051,
+      "pca_cpu_seconds": 2.283038,
+      "solve_wall_seconds": 0.599789297,
+      "solve_cpu_seconds": 1.0771330000000001,
+      "pca_peak_rss_bytes": 69644288,
       "plan": {
         "solver_bytes": 1280000,
         "table_bytes": 48096000,
