@@ -359,9 +359,10 @@ func secondRange(lp int) int {
 const (
 	// secondRangeBytes bounds the rows of Y of a range (secondRange): with
 	// the tile's tables (320 KiB) they fit the 2 MiB L2 cache of the
-	// machines of benchmarks/kernels. Ranges half as large (640 KiB) made a
-	// 5,000-sample fast pass 5% slower there, because each range rebuilds
-	// every table of the tile (benchmarks/kernels).
+	// machines of benchmarks/kernels. With ranges half as large (640 KiB)
+	// and no marker parts at 5,000 samples, each table was built twice
+	// (each range rebuilds every table of the tile), and a fast pass took
+	// about 2% longer there (benchmarks/kernels).
 	secondRangeBytes = 1280 << 10
 	maxSecondRange   = 16384
 )
@@ -375,7 +376,7 @@ const (
 // per group, against one row per sample: at 1,000 samples and 2 threads
 // the rebuilt tables made the pass 7% slower than the scatter it
 // replaced; at 5,000 samples two parts instead of two sample jobs made a
-// fast pass 5% faster). Each part sums its tiles into rows of its own,
+// fast pass about 2% faster). Each part sums its tiles into rows of its own,
 // added to Y in part order (partsJob). It depends on n and lp alone, so
 // the numbers do not depend on the thread count.
 func secondParts(n, lp int) int {
